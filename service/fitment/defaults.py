@@ -1,0 +1,37 @@
+"""Defaults the engine applies when a request leaves an option out, with where each
+comes from. Every default that is applied is named in the result's `assumptions`, so a
+client can always see which numbers were its own and which were ours."""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+
+@dataclass(frozen=True, slots=True)
+class Default:
+    value: float
+    source: str
+
+
+# Smallest acceptable electrode-to-piston (or valve) clearance at top dead centre.
+# About 0.060 in is the figure engine builders quote for plug-to-piston clearance
+# (common practice, from memory); we round to 1.5 mm.
+MIN_CLEARANCE_MM = Default(1.5, "common practice (about 0.060 in), from memory")
+
+# How far the plug's thread end may sit proud of or short of the chamber surface and
+# still count as flush. Half a millimetre is below one M14 pitch (1.25 mm), so no full
+# thread crest stands in the chamber or lies exposed (common practice).
+FLUSH_TOLERANCE_MM = Default(0.5, "common practice (less than one thread pitch)")
+
+# Extra closing of the piston towards the head at speed (rod stretch, bearing
+# clearance). Zero unless the builder gives one: it depends on the engine.
+DYNAMIC_ALLOWANCE_MM = Default(0.0, "none unless given; it is engine-specific")
+
+STACKS = ("worst_case", "rss")
+LUBRICATIONS = ("dry", "oiled", "anti_seize")
+
+CAUTIONS = (
+    "Torque, clearance and gap values are guidance: the engine maker's service data, "
+    "local regulations and licensed practice come first.",
+    "Clearances are computed from the dimensions given; measure the head and piston "
+    "of the actual engine before fitting a plug of a different reach.",
+)

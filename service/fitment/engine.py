@@ -1,0 +1,50 @@
+"""The fit engine's one entry point: plain data in, a `FitResult` out.
+
+Pure: no Flask, database or pint. The boundary (schemas, CLI) converts units and
+resolves references before calling `check_fit`, and serialises the result after.
+"""
+from __future__ import annotations
+
+from .catalog import Catalog
+from .checks import CHECKS
+from .context import FitContext
+from .defaults import CAUTIONS
+from .geometry import derive
+from .model import FitResult, Options, PlugSpec, PortSpec
+
+ENGINE_VERSION = "1.0.0"
+
+_SEVERITY_RANK = {"info": 0, "warn": 1, "fail": 2}
+_VERDICTS = ("pass", "warn", "fail")
+DEFAULT_OPTIONS = Options()
+
+
+def verdict_of(findings) -> str:
+    """The worst severity present: fail over warn over pass (info does not count)."""
+    worst = 0
+    for finding in findings:
+        rank = _SEVERITY_RANK[finding.severity]
+        if rank > worst:
+            worst = rank
+            if worst == 2:
+                break
+    return _VERDICTS[worst]
+
+
+def check_fit(plug: PlugSpec, port: PortSpec, options: Options | None, catalog: Catalog) -> FitResult:
+    ctx = FitContext(plug, port, options or DEFAULT_OPTIONS, catalog)
+    derive(ctx)
+    for check in CHECKS:
+        check(ctx)
+    return FitResult(
+        verdict=verdict_of(ctx.findings),
+        thread=plug.thread,
+        findings=ctx.findings,
+        geometry=ctx.geometry,
+        analysis=ctx.analysis,
+        torque=ctx.torque,
+        assumptions=ctx.assumptions,
+        cautions=CAUTIONS,
+        engine_version=ENGINE_VERSION,
+        catalog_version=catalog.version,
+    )

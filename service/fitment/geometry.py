@@ -1,0 +1,86 @@
+"""The contract's geometry along the plug axis (origin at the head's seat face, positive
+towards the chamber), built as tolerance stacks before any check runs.
+
+    s      = installed gasket (flat plug) or 0 (conical plug)
+    D      = port depth, short side; from a design reach R_d: R_d - s_std (flat port), R_d (conical)
+    D_long = port depth on the long side (default D)
+    e      = reach - s                 thread end
+    Δ      = e - D                     thread protrusion (REACH_LONG)
+    Δ_long = e - D_long                thread recess (REACH_SHORT)
+    t      = e + firing_end            tip position
+    m_p    = D + piston_clearance - t - dynamic  (or seat_to_piston - t - dynamic)
+"""
+from __future__ import annotations
+
+from .context import FitContext
+from .model import Dim
+from .stack import ZERO, Stack
+
+
+def _standard_gasket(ctx: FitContext, thread: str, who: str) -> float | None:
+    size = ctx.catalog.thread(thread)
+    if size is None or size.standard_gasket_mm is None:
+        return None
+    ctx.assume(f"{who}: the standard installed gasket for {thread}, "
+               f"{size.standard_gasket_mm:g} mm, is assumed ({size.source})")
+    return size.standard_gasket_mm
+
+
+def _gasket(ctx: FitContext) -> Stack | None:
+    plug = ctx.plug
+    if plug.seat == "conical":
+        return ZERO
+    if plug.gasket_thickness is not None:
+        return Stack.of(plug.gasket_thickness)
+    thickness = _standard_gasket(ctx, plug.thread, "plug gasket_thickness not given")
+    return None if thickness is None else Stack(thickness)
+
+
+def _port_depth(ctx: FitContext) -> Stack | None:
+    port = ctx.port
+    if port.port_depth is not None:
+        return Stack.of(port.port_depth)
+    if port.design_reach is None:
+        return None
+    if port.seat == "conical":
+        return Stack.of(port.design_reach)
+    thickness = _standard_gasket(ctx, port.thread, "port depth derived from design_reach")
+    return None if thickness is None else Stack.of(port.design_reach) - Stack(thickness)
+
+
+def _clearance_stack(ctx: FitContext, from_seat: Dim | None, from_breakout: Dim | None) -> Stack | None:
+    """Distance from the seat face to an obstacle (piston, valve) along the axis."""
+    if from_seat is not None:
+        return Stack.of(from_seat)
+    if from_breakout is not None and ctx.port_depth is not None:
+        return ctx.port_depth + Stack.of(from_breakout)
+    return None
+
+
+def derive(ctx: FitContext) -> None:
+    """Fill the context's stacks and `geometry` entries from whatever inputs exist."""
+    plug, port, geometry = ctx.plug, ctx.port, ctx.geometry
+    ctx.gasket = _gasket(ctx)
+    ctx.port_depth = _port_depth(ctx)
+    if ctx.port_depth is not None:
+        ctx.port_depth_long = (Stack.of(port.port_depth_long_side)
+                               if port.port_depth_long_side is not None else ctx.port_depth)
+    if plug.reach is not None and ctx.gasket is not None:
+        ctx.thread_end = Stack.of(plug.reach) - ctx.gasket
+        if ctx.port_depth is not None:
+            geometry["thread_protrusion"] = (ctx.thread_end - ctx.port_depth).bounds()
+            geometry["thread_recess"] = (ctx.thread_end - ctx.port_depth_long).bounds()
+        if plug.firing_end is not None:
+            ctx.tip = ctx.thread_end + Stack.of(plug.firing_end)
+            geometry["tip_position"] = ctx.tip.bounds()
+    if ctx.tip is None:
+        return
+    piston = _clearance_stack(ctx, port.seat_to_piston, port.piston_clearance)
+    valve = _clearance_stack(ctx, port.seat_to_valve, port.valve_clearance)
+    if piston is None and valve is None:
+        return
+    allowance = Stack(ctx.dynamic_allowance())
+    if piston is not None:
+        geometry["piston_margin"] = (piston - ctx.tip - allowance).bounds()
+    if valve is not None:
+        geometry["valve_margin"] = (valve - ctx.tip - allowance).bounds()

@@ -1,0 +1,161 @@
+"""Plain data the fit engine reads and writes: millimetres, newton-metres, bar, kelvin, kV.
+
+Everything here is a float or a small immutable record so the engine can run a hundred
+thousand checks a second without pint, Flask or a database in the way. Units are
+converted at the boundary (`service.units`, `schemas/`) before anything reaches here.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+
+@dataclass(frozen=True, slots=True)
+class Dim:
+    """A length in mm with its tolerance; `plus` and `minus` are positive amounts.
+
+    A value given without a tolerance is exact (plus = minus = 0): the contract forbids
+    adding tolerances silently.
+    """
+
+    nominal: float
+    plus: float = 0.0
+    minus: float = 0.0
+
+    @property
+    def is_exact(self) -> bool:
+        return self.plus == 0.0 and self.minus == 0.0
+
+
+@dataclass(frozen=True, slots=True)
+class HeatRange:
+    scale: str
+    value: float
+
+
+@dataclass(frozen=True, slots=True)
+class HeatRangeBand:
+    scale: str
+    min: float
+    max: float
+
+
+@dataclass(frozen=True, slots=True)
+class Span:
+    """A closed range of lengths in mm (for example where a boot engages a terminal)."""
+
+    min: float
+    max: float
+
+
+@dataclass(frozen=True, slots=True)
+class PlugSpec:
+    """A candidate plug. `thread` is a full designation such as 'M14x1.25'."""
+
+    thread: str
+    seat: str
+    reach: Dim | None = None
+    gasket_thickness: Dim | None = None
+    firing_end: Dim | None = None
+    hex: float | None = None
+    resistor: bool | None = None
+    terminal_height: Dim | None = None
+    heat_range: HeatRange | None = None
+    gap: float | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class PortSpec:
+    """A cylinder-head plug port and, optionally, the engine conditions at the plug."""
+
+    thread: str
+    seat: str
+    port_depth: Dim | None = None
+    design_reach: Dim | None = None
+    port_depth_long_side: Dim | None = None
+    piston_clearance: Dim | None = None
+    seat_to_piston: Dim | None = None
+    valve_clearance: Dim | None = None
+    seat_to_valve: Dim | None = None
+    well_bore: float | None = None
+    hex: float | None = None
+    resistor_required: bool | None = None
+    material: str | None = None
+    heat_range_band: HeatRangeBand | None = None
+    boot_range: Span | None = None
+    compression_ratio: float | None = None
+    intake_pressure_bar: float | None = None
+    intake_temperature_k: float | None = None
+    peak_pressure_bar: float | None = None
+    ignition_voltage_kv: float | None = None
+    bore_mm: float | None = None
+    stroke_mm: float | None = None
+    rod_length_mm: float | None = None
+    spark_advance_deg: float | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class Options:
+    """Check options; `None` means 'use the documented default' (see `defaults.py`)."""
+
+    min_clearance: float | None = None
+    flush_tolerance: float | None = None
+    dynamic_allowance: float | None = None
+    stack: str = "worst_case"
+    torque: float | None = None
+    lubrication: str | None = None
+    gap: float | None = None
+    require: frozenset[str] = frozenset()
+
+
+@dataclass(frozen=True, slots=True)
+class Bounds:
+    """One geometry entry: nominal, worst-case and root-sum-square bounds, in mm."""
+
+    nominal: float
+    min: float
+    max: float
+    rss_min: float
+    rss_max: float
+
+
+# A finding value: (number, quantity kind). Kinds: length, torque, pressure, voltage,
+# force, stress, ratio, angle, temperature, count. The serialiser turns them into units.
+Value = tuple[float, str]
+
+
+@dataclass(frozen=True, slots=True)
+class Finding:
+    """One thing a check found. `message` is a template: `{name}` placeholders are
+    filled from `values` by the serialiser in the client's units, so the engine never
+    formats numbers and imperial answers read in inches."""
+
+    code: str
+    check: str
+    severity: str
+    message: str
+    values: dict[str, Value] = field(default_factory=dict)
+
+
+@dataclass(frozen=True, slots=True)
+class TorqueAdvice:
+    min_nm: float
+    max_nm: float
+    turn_angle_deg: float | None
+    source: str
+
+
+@dataclass(slots=True)
+class FitResult:
+    verdict: str
+    thread: str
+    findings: list[Finding]
+    geometry: dict[str, Bounds]
+    analysis: dict[str, dict[str, Value]]
+    torque: TorqueAdvice | None
+    assumptions: list[str]
+    cautions: tuple[str, ...]
+    engine_version: str
+    catalog_version: str
+
+    def codes(self) -> list[str]:
+        return [f.code for f in self.findings]

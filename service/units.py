@@ -1,0 +1,181 @@
+"""Unit handling at the boundary: one shared pint registry and a cache of parsed strings.
+
+The engine works on plain floats in mm, N·m, bar, K and kV. Anything a client writes
+with units ("0.75 in", "18 ft-lb", "45 degC") is turned into those floats here, once:
+pint needs hundreds of microseconds per parse, and build lists repeat the same strings
+on thousands of lines, so parses are cached by (text, kind).
+"""
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+from functools import lru_cache
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # pragma: no cover
+    import pint
+
+# 1 in = 25.4 mm exactly (NIST SP 811, 2008, B.8).
+MM_PER_INCH = 25.4
+# 1 lbf·ft = 1.355 818 N·m (NIST SP 811, 2008, B.8); pint derives the same from the
+# exact pound-mass and standard gravity, so the registry is the source we use.
+
+
+class UnitError(ValueError):
+    """A value the boundary cannot turn into the quantity asked for; the message is
+    written for the client and names what was expected."""
+
+
+@dataclass(frozen=True, slots=True)
+class Kind:
+    """A quantity kind: the canonical unit the engine works in, the unit a bare
+    number means, and the pint dimensionality it must have."""
+
+    name: str
+    canonical: str
+    bare: str
+    dimensionality: str
+
+
+LENGTH = Kind("length", "mm", "mm", "[length]")
+TORQUE = Kind("torque", "N*m", "N*m", "[length] ** 2 * [mass] / [time] ** 2")
+PRESSURE = Kind("pressure", "bar", "bar", "[mass] / [length] / [time] ** 2")
+TEMPERATURE = Kind("temperature", "K", "degC", "[temperature]")
+VOLTAGE = Kind("voltage", "kV", "kV", "[length] ** 2 * [mass] / [current] / [time] ** 3")
+ANGLE = Kind("angle", "deg", "deg", "")
+KINDS = {k.name: k for k in (LENGTH, TORQUE, PRESSURE, TEMPERATURE, VOLTAGE, ANGLE)}
+
+# Output units per unit system; ASCII and pint-parsable, as the contract asks.
+OUTPUT_UNITS = {
+    "metric": {"length": "mm", "torque": "N*m", "pressure": "bar", "voltage": "kV",
+               "force": "N", "stress": "MPa", "area": "mm**2", "temperature": "K"},
+    "imperial": {"length": "in", "torque": "lbf*ft", "pressure": "psi", "voltage": "kV",
+                 "force": "lbf", "stress": "psi", "area": "in**2", "temperature": "K"},
+}
+
+# The trade writes torque as ft-lb, lb-ft, ft·lbf, in-lb, lbs.ft …; pint would read
+# "ft-lb" as a subtraction and "lb" as a mass, so these spellings are rewritten first.
+_TORQUE_SPELLINGS = [
+    (re.compile(r"\b(?:ft|foot|feet)\s*[-·.*× ]?\s*(?:lbf|lbs|lb)\b", re.I), "lbf*ft"),
+    (re.compile(r"\b(?:lbf|lbs|lb)\s*[-·.*× ]?\s*(?:ft|foot|feet)\b", re.I), "lbf*ft"),
+    (re.compile(r"\b(?:in|inch|inches)\s*[-·.*× ]?\s*(?:lbf|lbs|lb)\b", re.I), "lbf*inch"),
+    (re.compile(r"\b(?:lbf|lbs|lb)\s*[-·.*× ]?\s*(?:in|inch|inches)\b", re.I), "lbf*inch"),
+    (re.compile(r"\bN\s*[-·.× ]?\s*m\b"), "N*m"),
+    (re.compile(r"\bNm\b"), "N*m"),
+]
+_GENERAL_SPELLINGS = [
+    (re.compile(r"·"), "*"),
+    (re.compile(r"°\s*C\b"), "degC"),
+    (re.compile(r"°\s*F\b"), "degF"),
+    (re.compile(r"(?<=\d)\s*\"$"), " in"),
+    (re.compile(r"\bdeg\s*C\b"), "degC"),
+]
+
+
+_STARTS_WITH_NUMBER = re.compile(r"^\(?\s*[-+]?(?:\d|\.\d)")
+
+
+@lru_cache(maxsize=1)
+def registry() -> "pint.UnitRegistry":
+    """The one registry of the project, built on first use (never at import time)."""
+    import pint
+
+    reg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True, cache_folder=None)
+    return reg
+
+
+def _normalise(text: str, kind: Kind) -> str:
+    out = text.strip()
+    for pattern, repl in _GENERAL_SPELLINGS:
+        out = pattern.sub(repl, out)
+    if kind is TORQUE:
+        for pattern, repl in _TORQUE_SPELLINGS:
+            out = pattern.sub(repl, out)
+    return out
+
+
+def check_finite(value: float, kind_name: str) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise UnitError(f"expected a number or a string with {kind_name} units")
+    number = float(value)
+    if math.isnan(number) or math.isinf(number):
+        raise UnitError("must be a finite number, not NaN or infinity")
+    return number
+
+
+@lru_cache(maxsize=65536)
+def parse_quantity(text: str, kind_name: str) -> float:
+    """Parse `text` as a quantity of `kind_name` and return it in the canonical unit.
+
+    A bare number in the string ("19") means the kind's bare unit (mm, N·m, bar, °C, kV).
+    Cached: the same text is parsed by pint only once per process.
+    """
+    kind = KINDS[kind_name]
+    normalised = _normalise(text, kind)
+    if not normalised:
+        raise UnitError(f"empty {kind.name}")
+    try:
+        number = float(normalised)
+    except ValueError:
+        number = None
+    if number is not None:
+        return convert(check_finite(number, kind.name), kind.bare, kind.canonical)
+    if not _STARTS_WITH_NUMBER.match(normalised):
+        raise UnitError(f"{text!r} has no number; give a {kind.name} such as '19 mm'")
+    reg = registry()
+    try:
+        quantity = reg.Quantity(normalised)
+    except Exception as exc:  # pint raises many types for malformed text
+        raise UnitError(f"cannot read {text!r} as a {kind.name}") from exc
+    if not isinstance(quantity, reg.Quantity):
+        raise UnitError(f"{text!r} has no unit; give a number or a {kind.name} with units")
+    magnitude = quantity.magnitude
+    if isinstance(magnitude, complex) or not isinstance(magnitude, (int, float)):
+        raise UnitError(f"cannot read {text!r} as a {kind.name}")
+    if math.isnan(magnitude) or math.isinf(magnitude):
+        raise UnitError("must be a finite number, not NaN or infinity")
+    if kind is ANGLE and quantity.dimensionless:
+        return float(quantity.to("deg").magnitude)
+    if quantity.dimensionality != reg.get_dimensionality(kind.dimensionality):
+        raise UnitError(f"{text!r} is not a {kind.name} (expected units like {kind.bare})")
+    return float(quantity.to(kind.canonical).magnitude)
+
+
+@lru_cache(maxsize=4096)
+def _factor(from_unit: str, to_unit: str) -> tuple[float, float]:
+    """Linear conversion factor and offset from one unit to another (offset for °C)."""
+    reg = registry()
+    zero = reg.Quantity(0.0, from_unit).to(to_unit).magnitude
+    one = reg.Quantity(1.0, from_unit).to(to_unit).magnitude
+    return one - zero, zero
+
+
+def convert(value: float, from_unit: str, to_unit: str) -> float:
+    """Convert a float between two units; the factor is looked up once per unit pair."""
+    if from_unit == to_unit:
+        return value
+    scale, offset = _factor(from_unit, to_unit)
+    return value * scale + offset
+
+
+def output_unit(kind: str, system: str) -> str:
+    """The unit a value of `kind` is reported in for a unit system; kinds without a
+    unit (ratios, counts, angles in degrees) report their own name-free unit."""
+    return OUTPUT_UNITS[system].get(kind, _PLAIN_UNITS.get(kind, ""))
+
+
+_PLAIN_UNITS = {"ratio": "", "count": "", "angle": "deg", "kinematic": ""}
+
+
+def from_canonical(value: float, kind: str, system: str) -> float:
+    """A canonical engine value (mm, N·m, bar, K, kV, N, MPa, mm²) in the output unit."""
+    unit = output_unit(kind, system)
+    canonical = _CANONICAL_OUT.get(kind)
+    if canonical is None or canonical == unit:
+        return value
+    return convert(value, canonical, unit)
+
+
+_CANONICAL_OUT = {"length": "mm", "torque": "N*m", "pressure": "bar", "voltage": "kV",
+                  "force": "N", "stress": "MPa", "area": "mm**2", "temperature": "K"}
