@@ -1,0 +1,311 @@
+"""Schemas for plugs, head ports, check options and fit-check requests.
+
+The single source of what a valid plug or port is: the REST layer, the batch endpoint
+and the command-line tool all load through these, and the OpenAPI document is generated
+from them. Loading yields dicts of canonical values (lengths as `Dim` in mm);
+`plug_spec` and `port_spec` turn them into the engine's records.
+"""
+from __future__ import annotations
+
+from typing import Any
+
+from marshmallow import RAISE, Schema, ValidationError, fields, validate, validates_schema
+
+from service.fitment.catalog import MATERIALS, SEATS
+from service.fitment.checks import CHECK_NAMES
+from service.fitment.defaults import LUBRICATIONS, STACKS
+from service.fitment.designation import format_designation, parse_designation
+from service.fitment.model import HeatRange, HeatRangeBand, Options, PlugSpec, PortSpec, Span
+
+from .fields import SEAT_ALIASES, Choice, Length, Quantity
+
+# The contract's identifier rule for sku and head_id.
+IDENTIFIER = validate.Regexp(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$",
+                             error="1-64 letters, digits, '-', '_' or '.', starting with a letter or digit")
+
+# Plausibility limits, in mm. Standard spark-plug reaches run to about 26.5 mm
+# (reference-values.md, common practice); anything past 60 mm is a typo or a wrong unit.
+MAX_REACH_MM = 60.0
+MAX_GASKET_MM = 5.0
+MAX_FIRING_END_MM = 20.0
+MAX_PORT_MM = 120.0
+MAX_CLEARANCE_MM = 250.0
+HEX_RANGE_MM = (8.0, 40.0)
+
+
+def _catalog():
+    from service.catalog_loader import load_catalog
+
+    return load_catalog()
+
+
+class Thread(fields.String):
+    """An ISO 261 designation; a bare `M14` means the spark-plug pitch for that size.
+
+    Loads as the full designation (`M14x1.25`). Whether a non-standard pitch is allowed
+    is decided by the owning schema (it needs `nonstandard_thread`).
+    """
+
+    def __init__(self, **kwargs: Any) -> None:
+        metadata = {"example": "M14x1.25", "description": "ISO 261 designation, e.g. M14x1.25; "
+                    "a bare M14 means the spark-plug pitch for that size", **kwargs.pop("metadata", {})}
+        super().__init__(metadata=metadata, **kwargs)
+
+    def _deserialize(self, value: Any, attr: str | None, data: Any, **kwargs: Any) -> str:
+        text = super()._deserialize(value, attr, data, **kwargs)
+        numbers = parse_designation(text)
+        if numbers is None:
+            raise ValidationError("not a thread designation such as M14x1.25")
+        diameter, pitch = numbers
+        if pitch is None:
+            size = _catalog().thread_for_diameter(diameter)
+            if size is None:
+                raise ValidationError(f"no standard spark-plug thread of {diameter:g} mm; give the pitch, e.g. M{diameter:g}x1.25")
+            return size.designation
+        if not (4.0 <= diameter <= 30.0 and 0.3 <= pitch <= 3.0):
+            raise ValidationError("not a plausible spark-plug thread")
+        return format_designation(diameter, pitch)
+
+
+def _check_thread_is_standard(data: dict, errors: dict) -> None:
+    thread = data.get("thread")
+    if thread is None or data.get("nonstandard_thread") or _catalog().thread(thread) is not None:
+        return
+    diameter, pitch = parse_designation(thread)
+    size = _catalog().thread_for_diameter(diameter)
+    hint = f" (M{diameter:g} spark-plug threads are {size.designation})" if size else ""
+    errors.setdefault("thread", []).append(
+        f"{thread} is not a standard spark-plug thread{hint}; set nonstandard_thread to true to use it anyway")
+
+
+class HeatRangeSchema(Schema):
+    scale = fields.String(required=True, validate=validate.Length(1, 40),
+                          metadata={"description": "name of the heat-range scale the value is on", "example": "shop-scale"})
+    value = fields.Float(required=True, allow_nan=False)
+
+
+class HeatRangeBandSchema(Schema):
+    scale = fields.String(required=True, validate=validate.Length(1, 40), metadata={"example": "shop-scale"})
+    min = fields.Float(required=True, allow_nan=False)
+    max = fields.Float(required=True, allow_nan=False)
+
+    @validates_schema
+    def _ordered(self, data: dict, **kwargs: Any) -> None:
+        if data["min"] > data["max"]:
+            raise ValidationError("min must not exceed max", "min")
+
+
+class BootRangeSchema(Schema):
+    min = Length(required=True, maximum=MAX_CLEARANCE_MM)
+    max = Length(required=True, maximum=MAX_CLEARANCE_MM)
+
+    @validates_schema
+    def _ordered(self, data: dict, **kwargs: Any) -> None:
+        if data["min"].nominal > data["max"].nominal:
+            raise ValidationError("min must not exceed max", "min")
+
+
+class PlugDimensionsSchema(Schema):
+    """The dimensions of a plug design."""
+
+    class Meta:
+        unknown = RAISE
+
+    thread = Thread()
+    nonstandard_thread = fields.Boolean(load_default=False, metadata={
+        "description": "accept a thread the catalogue does not list as a spark-plug thread"})
+    seat = Choice(SEATS, SEAT_ALIASES, metadata={"description": "flat (gasket) or conical (taper)"})
+    reach = Length(maximum=MAX_REACH_MM, metadata={"description": "seat to end of shell thread", "example": 19.0})
+    gasket_thickness = Length(maximum=MAX_GASKET_MM, metadata={
+        "description": "installed (crushed) gasket, flat seat only; default: the catalogue's standard", "example": 1.5})
+    firing_end = Length(minimum=-MAX_FIRING_END_MM, maximum=MAX_FIRING_END_MM, metadata={
+        "description": "shell end to furthest electrode point; zero or negative when recessed", "example": 4.0})
+    hex = Quantity("length", minimum=HEX_RANGE_MM[0], maximum=HEX_RANGE_MM[1], bare_unit="mm",
+                   metadata={"description": "across flats", "example": 16.0})
+    resistor = fields.Boolean(allow_none=True)
+    terminal_height = Length(maximum=MAX_CLEARANCE_MM, metadata={"description": "seat to top of terminal"})
+    heat_range = fields.Nested(HeatRangeSchema, allow_none=True)
+    gap = Quantity("length", minimum=0.0, maximum=5.0, bare_unit="mm", metadata={"example": 0.8})
+
+    @validates_schema
+    def _plug_can_exist(self, data: dict, **kwargs: Any) -> None:
+        errors: dict[str, list[str]] = {}
+        _check_thread_is_standard(data, errors)
+        if data.get("seat") == "conical" and data.get("gasket_thickness") is not None:
+            errors.setdefault("gasket_thickness", []).append("a conical-seat plug has no gasket")
+        if errors:
+            raise ValidationError(errors)
+
+
+class StoredPlugSchema(PlugDimensionsSchema):
+    """An inventory line: a plug design with the shop's own identifier and stock."""
+
+    sku = fields.String(required=True, validate=IDENTIFIER, metadata={"example": "DEMO-14F-19-R"})
+    description = fields.String(load_default="", validate=validate.Length(max=500))
+    quantity_on_hand = fields.Integer(load_default=0, validate=validate.Range(0, 10_000_000))
+    location = fields.String(allow_none=True, validate=validate.Length(max=100))
+    thread = Thread(required=True)
+    seat = Choice(SEATS, SEAT_ALIASES, required=True)
+
+
+class PlugInputSchema(PlugDimensionsSchema):
+    """A plug in a check: `{"sku": ...}` for an inventory line, or the dimensions inline."""
+
+    sku = fields.String(validate=IDENTIFIER, metadata={"description": "an inventory plug; give it alone"})
+
+    @validates_schema
+    def _reference_or_inline(self, data: dict, **kwargs: Any) -> None:
+        _reference_or_inline(data, "sku", ("thread", "seat"))
+
+
+def _reference_or_inline(data: dict, key: str, required: tuple[str, ...]) -> None:
+    given = {name for name, value in data.items() if value is not None and name != "nonstandard_thread"}
+    if key in data:
+        extra = sorted(given - {key})
+        if extra:
+            raise ValidationError({name: [f"give {key} alone or the dimensions inline, not both"] for name in extra})
+        return
+    missing = [name for name in required if data.get(name) is None]
+    if missing:
+        raise ValidationError({name: [f"required (or give {key})"] for name in missing})
+
+
+class PortDimensionsSchema(Schema):
+    """A cylinder-head plug port and, optionally, the engine conditions at the plug."""
+
+    class Meta:
+        unknown = RAISE
+
+    thread = Thread()
+    nonstandard_thread = fields.Boolean(load_default=False)
+    seat = Choice(SEATS, SEAT_ALIASES)
+    port_depth = Length(maximum=MAX_PORT_MM, metadata={
+        "description": "seat face to where the bore first breaks into the chamber (short side)", "example": 17.5})
+    design_reach = Length(maximum=MAX_REACH_MM, metadata={"description": "the plug reach the port was made for"})
+    port_depth_long_side = Length(maximum=MAX_PORT_MM, metadata={"description": "to full break-out (long side)"})
+    piston_clearance = Length(maximum=MAX_CLEARANCE_MM, metadata={
+        "description": "break-out to piston crown at TDC, along the plug axis", "example": 8.0})
+    seat_to_piston = Length(maximum=MAX_CLEARANCE_MM)
+    valve_clearance = Length(maximum=MAX_CLEARANCE_MM)
+    seat_to_valve = Length(maximum=MAX_CLEARANCE_MM)
+    well_bore = Quantity("length", minimum=5.0, maximum=200.0, bare_unit="mm",
+                         metadata={"description": "smallest bore of the plug well the socket must pass"})
+    hex = Quantity("length", minimum=HEX_RANGE_MM[0], maximum=HEX_RANGE_MM[1], bare_unit="mm",
+                   metadata={"description": "the hex the head's tooling is made for"})
+    resistor_required = fields.Boolean(allow_none=True)
+    material = Choice(MATERIALS, {"aluminum": "aluminium", "cast iron": "cast_iron", "iron": "cast_iron"},
+                      allow_none=True)
+    heat_range_band = fields.Nested(HeatRangeBandSchema, allow_none=True)
+    boot_range = fields.Nested(BootRangeSchema, allow_none=True)
+    compression_ratio = fields.Float(allow_none=True, allow_nan=False, validate=validate.Range(1.0, 40.0))
+    intake_pressure = Quantity("pressure", minimum=0.05, maximum=10.0, bare_unit="bar, absolute", allow_none=True)
+    intake_temperature = Quantity("temperature", minimum=200.0, maximum=600.0, bare_unit="degC", allow_none=True)
+    peak_pressure = Quantity("pressure", minimum=1.0, maximum=500.0, bare_unit="bar, absolute", allow_none=True)
+    ignition_voltage = Quantity("voltage", minimum=1.0, maximum=100.0, bare_unit="kV", allow_none=True)
+    bore = Quantity("length", minimum=10.0, maximum=1000.0, bare_unit="mm", allow_none=True)
+    stroke = Quantity("length", minimum=5.0, maximum=2000.0, bare_unit="mm", allow_none=True)
+    rod_length = Quantity("length", minimum=10.0, maximum=5000.0, bare_unit="mm", allow_none=True)
+    spark_advance = Quantity("angle", minimum=-20.0, maximum=90.0, bare_unit="degrees before TDC", allow_none=True)
+
+    @validates_schema
+    def _port_can_exist(self, data: dict, **kwargs: Any) -> None:
+        errors: dict[str, list[str]] = {}
+        _check_thread_is_standard(data, errors)
+        for first, second in (("port_depth", "design_reach"), ("piston_clearance", "seat_to_piston"),
+                              ("valve_clearance", "seat_to_valve")):
+            if data.get(first) is not None and data.get(second) is not None:
+                errors.setdefault(second, []).append(f"give {first} or {second}, not both")
+        depth, long_side = data.get("port_depth"), data.get("port_depth_long_side")
+        if depth is not None and long_side is not None and long_side.nominal < depth.nominal:
+            errors.setdefault("port_depth_long_side", []).append("the long side cannot be shorter than port_depth")
+        if errors:
+            raise ValidationError(errors)
+
+
+class StoredHeadSchema(PortDimensionsSchema):
+    head_id = fields.String(required=True, validate=IDENTIFIER, metadata={"example": "DEMO-TWIN-650"})
+    description = fields.String(load_default="", validate=validate.Length(max=500))
+    thread = Thread(required=True)
+    seat = Choice(SEATS, SEAT_ALIASES, required=True)
+
+
+class HeadInputSchema(PortDimensionsSchema):
+    """A head in a check: `{"head_id": ...}` for a stored head, or the port inline."""
+
+    head_id = fields.String(validate=IDENTIFIER, metadata={"description": "a stored head; give it alone"})
+
+    @validates_schema
+    def _reference_or_inline(self, data: dict, **kwargs: Any) -> None:
+        _reference_or_inline(data, "head_id", ("thread", "seat"))
+
+
+class OptionsSchema(Schema):
+    """Check options; each default is listed in the README and, when applied, in the
+    result's assumptions."""
+
+    class Meta:
+        unknown = RAISE
+
+    min_clearance = Quantity("length", minimum=0.0, maximum=50.0, bare_unit="mm",
+                             metadata={"description": "default 1.5 mm (common practice)"})
+    flush_tolerance = Quantity("length", minimum=0.0, maximum=10.0, bare_unit="mm",
+                               metadata={"description": "default 0.5 mm (common practice)"})
+    dynamic_allowance = Quantity("length", minimum=0.0, maximum=10.0, bare_unit="mm",
+                                 metadata={"description": "default 0 mm"})
+    stack = Choice(STACKS, {"worst-case": "worst_case", "worstcase": "worst_case"})
+    torque = Quantity("torque", minimum=0.0, maximum=500.0, bare_unit="N*m",
+                      metadata={"description": "planned installation torque"})
+    lubrication = Choice(LUBRICATIONS, {"anti-seize": "anti_seize", "antiseize": "anti_seize", "oil": "oiled"})
+    gap = Quantity("length", minimum=0.0, maximum=5.0, bare_unit="mm", metadata={"description": "planned gap"})
+    require = fields.List(Choice(CHECK_NAMES), metadata={
+        "description": "checks whose NOT_CHECKED becomes a fail"})
+
+
+class FitCheckRequestSchema(Schema):
+    class Meta:
+        unknown = RAISE
+
+    plug = fields.Nested(PlugInputSchema, required=True)
+    head = fields.Nested(HeadInputSchema, required=True)
+    options = fields.Nested(OptionsSchema, load_default=dict)
+
+
+# --- from loaded dicts to the engine's records -----------------------------------------
+
+_PLUG_FIELDS = ("reach", "gasket_thickness", "firing_end", "hex", "resistor", "terminal_height", "gap")
+_PORT_FIELDS = ("port_depth", "design_reach", "port_depth_long_side", "piston_clearance", "seat_to_piston",
+                "valve_clearance", "seat_to_valve", "well_bore", "hex", "resistor_required", "material",
+                "compression_ratio")
+_PORT_RENAMED = (("intake_pressure", "intake_pressure_bar"), ("intake_temperature", "intake_temperature_k"),
+                 ("peak_pressure", "peak_pressure_bar"), ("ignition_voltage", "ignition_voltage_kv"),
+                 ("bore", "bore_mm"), ("stroke", "stroke_mm"), ("rod_length", "rod_length_mm"),
+                 ("spark_advance", "spark_advance_deg"))
+
+
+def plug_spec(data: dict) -> PlugSpec:
+    """A loaded plug dict (inline or stored) as the engine's record."""
+    heat = data.get("heat_range")
+    return PlugSpec(
+        thread=data["thread"], seat=data["seat"],
+        heat_range=HeatRange(heat["scale"], heat["value"]) if heat else None,
+        **{name: data.get(name) for name in _PLUG_FIELDS})
+
+
+def port_spec(data: dict) -> PortSpec:
+    """A loaded head dict (inline or stored) as the engine's record."""
+    band, boot = data.get("heat_range_band"), data.get("boot_range")
+    return PortSpec(
+        thread=data["thread"], seat=data["seat"],
+        heat_range_band=HeatRangeBand(band["scale"], band["min"], band["max"]) if band else None,
+        boot_range=Span(boot["min"].nominal, boot["max"].nominal) if boot else None,
+        **{name: data.get(name) for name in _PORT_FIELDS},
+        **{new: data.get(old) for old, new in _PORT_RENAMED})
+
+
+def options_from(data: dict | None) -> Options:
+    data = data or {}
+    return Options(
+        min_clearance=data.get("min_clearance"), flush_tolerance=data.get("flush_tolerance"),
+        dynamic_allowance=data.get("dynamic_allowance"), stack=data.get("stack") or "worst_case",
+        torque=data.get("torque"), lubrication=data.get("lubrication"), gap=data.get("gap"),
+        require=frozenset(data.get("require") or ()))
