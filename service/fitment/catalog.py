@@ -63,6 +63,7 @@ class TorqueGuide:
     max_nm: float
     turn_angle_deg: float | None
     source: str
+    reused_gasket_turn_angle_deg: float | None = None
 
 
 @dataclass(frozen=True)

@@ -1,0 +1,375 @@
+"""Load the neutral standards catalogue from `seed_catalog/*.csv` into a `Catalog`.
+
+Why strict: the catalogue is reference data that every verdict leans on, and every value
+must carry its source. A typo that silently became 0, a row without a source or a seat
+nobody knows would turn into wrong answers far away from the file, so any such row stops
+the load with a ValueError that names the file, the line and the column.
+
+Why a content hash: results report `catalog_version`, so two answers can be compared
+only if they were computed from the same data; the hash changes whenever a file does.
+
+Pure standard library (csv, hashlib): pint and the database are not needed to read it.
+"""
+from __future__ import annotations
+
+import csv
+import functools
+import hashlib
+import importlib.resources
+import io
+import math
+import pathlib
+from typing import Any, Callable, Iterator
+
+from service.fitment.catalog import (
+    MATERIALS,
+    SEATS,
+    Catalog,
+    HexSize,
+    StandardReach,
+    ThreadSize,
+    TorqueGuide,
+)
+from service.fitment.threads import (
+    basic_minor_diameter,
+    basic_pitch_diameter,
+    external_root_diameter,
+    limits_6g_6H,
+)
+
+CATALOG_FILES = ("threads.csv", "reaches.csv", "hexes.csv", "torques.csv")
+
+THREAD_COLUMNS = ("designation", "nominal_diameter_mm", "pitch_mm", "seats", "standard_gasket_mm", "source")
+REACH_COLUMNS = ("thread", "seat", "reach_mm", "tolerance_mm", "label", "source")
+HEX_COLUMNS = ("across_flats_mm", "family", "label", "socket_od_mm", "source")
+TORQUE_COLUMNS = (
+    "thread", "seat", "material", "min_nm", "max_nm", "turn_angle_deg",
+    "reused_gasket_turn_angle_deg", "source",
+)
+
+# Thin-wall plug sockets run walls of roughly 1.5–2.5 mm (common practice, from memory);
+# the catalogue uses the middle of that range for every hex.
+THIN_WALL_SOCKET_WALL_MM = 2.0
+
+# Sources of the values the catalogue derives rather than lists.
+DERIVED_SOURCES = {
+    "thread_basic_profile": "ISO 68-1 basic profile: d2 = d - 0.649519 P, d1 = d - 1.082532 P, "
+    "d3 = d - 1.226869 P (published); computed, not typed in",
+    "thread_limits_6g_6H": "ISO 965-1 tolerance formulas for 6g/6H (published); size ranges, R40 "
+    "rounding and tabulated deviations from memory",
+    "hex_across_corners": "across flats / cos 30 deg (exact geometry)",
+    "socket_od": f"across corners + 2 x {THIN_WALL_SOCKET_WALL_MM:g} mm thin wall "
+    "(wall: common practice, from memory)",
+    "inch_conversion": "1 in = 25.4 mm exactly (NIST SP 811, 2008, appendix B)",
+}
+
+CAUTIONS = (
+    "Torque values and turn angles are guidance for clean, dry threads: the engine maker's "
+    "service data, local regulations and licensed practice come first.",
+    "Reaches, gasket thicknesses and socket sizes marked 'common practice' or 'from memory' "
+    "have no citable published source: confirm them against the part and the head.",
+)
+
+
+def across_corners_mm(across_flats_mm: float) -> float:
+    """A hexagon's across-corners width: across flats / cos 30° (exact geometry).
+
+    A twelve-point socket's recess is two such hexagons turned 30°, so it reaches the
+    same across-corners width.
+    """
+    return across_flats_mm / math.cos(math.radians(30.0))
+
+
+def thin_wall_socket_od_mm(across_flats_mm: float, wall_mm: float = THIN_WALL_SOCKET_WALL_MM) -> float:
+    """Outside diameter of a thin-wall socket for this hex: across corners + 2 × wall."""
+    return across_corners_mm(across_flats_mm) + 2.0 * wall_mm
+
+
+def default_catalog_directory() -> pathlib.Path:
+    """The installed `seed_catalog` package directory (works from a checkout or a pip install)."""
+    return pathlib.Path(str(importlib.resources.files("seed_catalog")))
+
+
+def load_catalog(directory: pathlib.Path | None = None) -> Catalog:
+    """The catalogue in `directory` (default: the installed seed catalogue), cached.
+
+    The cache key is the directory plus each file's size and modification time, so a
+    changed file is read again and everything else costs four stat calls.
+    """
+    root = (directory if directory is not None else default_catalog_directory()).resolve()
+    return _load_cached(root, _fingerprint(root))
+
+
+def _fingerprint(root: pathlib.Path) -> tuple[tuple[str, int, int], ...]:
+    stamps = []
+    for name in CATALOG_FILES:
+        try:
+            stat = (root / name).stat()
+        except FileNotFoundError:
+            raise ValueError(f"{root / name}: catalogue file is missing") from None
+        stamps.append((name, stat.st_size, stat.st_mtime_ns))
+    return tuple(stamps)
+
+
+@functools.lru_cache(maxsize=16)
+def _load_cached(root: pathlib.Path, _fingerprint: tuple[tuple[str, int, int], ...]) -> Catalog:
+    contents = {name: (root / name).read_bytes() for name in CATALOG_FILES}
+    threads = _read_threads(root / "threads.csv", contents["threads.csv"])
+    reaches = _read_reaches(root / "reaches.csv", contents["reaches.csv"], threads)
+    hexes = _read_hexes(root / "hexes.csv", contents["hexes.csv"])
+    torques = _read_torques(root / "torques.csv", contents["torques.csv"], threads)
+    return Catalog(
+        version=catalog_version(contents),
+        threads=threads,
+        reaches=reaches,
+        hexes=hexes,
+        torques=torques,
+        sources=dict(DERIVED_SOURCES),
+    )
+
+
+def catalog_version(contents: dict[str, bytes]) -> str:
+    """First 12 hex digits of SHA-256 over each file's name and bytes, in sorted order."""
+    digest = hashlib.sha256()
+    for name in sorted(contents):
+        digest.update(name.encode() + b"\0" + contents[name] + b"\0")
+    return digest.hexdigest()[:12]
+
+
+# --- reading rows -----------------------------------------------------------------------
+
+
+class _Row:
+    """One CSV row with its position, so every error can say where it is."""
+
+    def __init__(self, path: pathlib.Path, line: int, values: dict[str, str]) -> None:
+        self.path, self.line, self.values = path, line, values
+
+    def error(self, column: str, problem: str) -> ValueError:
+        return ValueError(f"{self.path.name}: line {self.line}, column {column!r}: {problem}")
+
+    def text(self, column: str) -> str:
+        value = self.values[column].strip()
+        if not value:
+            raise self.error(column, "is empty")
+        return value
+
+    def number(self, column: str, *, positive: bool = True) -> float:
+        raw = self.text(column)
+        try:
+            value = float(raw)
+        except ValueError:
+            raise self.error(column, f"{raw!r} is not a number") from None
+        if not math.isfinite(value) or (positive and value <= 0) or value < 0:
+            raise self.error(column, f"{raw!r} must be a finite {'positive' if positive else 'non-negative'} number")
+        return value
+
+    def optional_number(self, column: str) -> float | None:
+        return self.number(column) if self.values[column].strip() else None
+
+    def choice(self, column: str, allowed: tuple[str, ...]) -> str:
+        value = self.text(column)
+        if value not in allowed:
+            raise self.error(column, f"{value!r} is not one of {', '.join(allowed)}")
+        return value
+
+
+def _rows(path: pathlib.Path, content: bytes, columns: tuple[str, ...]) -> Iterator[_Row]:
+    try:
+        text = content.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise ValueError(f"{path.name}: line 1, column '*': not UTF-8 ({exc.reason})") from None
+    reader = csv.reader(io.StringIO(text, newline=""))
+    header = next(reader, None)
+    if header is None:
+        raise ValueError(f"{path.name}: line 1, column '*': the file is empty")
+    if tuple(h.strip() for h in header) != columns:
+        missing = [c for c in columns if c not in header]
+        extra = [h for h in header if h not in columns]
+        column = (missing or extra or ["*"])[0]
+        raise ValueError(
+            f"{path.name}: line 1, column {column!r}: the header must be {','.join(columns)} "
+            f"(missing {missing or 'none'}, unexpected {extra or 'none'})"
+        )
+    for cells in reader:
+        line = reader.line_num
+        if not any(cell.strip() for cell in cells):
+            continue
+        if len(cells) != len(columns):
+            column = columns[len(cells)] if len(cells) < len(columns) else f"#{len(cells)}"
+            raise ValueError(
+                f"{path.name}: line {line}, column {column!r}: expected {len(columns)} cells, found {len(cells)}"
+            )
+        row = _Row(path, line, dict(zip(columns, cells)))
+        row.text("source")  # every value names where it comes from
+        yield row
+
+
+def _unique(seen: dict[Any, int], key: Any, row: _Row, column: str) -> None:
+    if key in seen:
+        raise row.error(column, f"duplicate of line {seen[key]} ({key})")
+    seen[key] = row.line
+
+
+def _known_thread(threads: dict[str, ThreadSize], row: _Row) -> ThreadSize:
+    name = row.text("thread")
+    if name not in threads:
+        raise row.error("thread", f"{name!r} is not in threads.csv")
+    size = threads[name]
+    seat = row.choice("seat", SEATS)
+    if seat not in size.seats:
+        raise row.error("seat", f"{name} has no {seat} seat in threads.csv")
+    return size
+
+
+def _read_threads(path: pathlib.Path, content: bytes) -> dict[str, ThreadSize]:
+    threads: dict[str, ThreadSize] = {}
+    seen: dict[Any, int] = {}
+    for row in _rows(path, content, THREAD_COLUMNS):
+        designation = row.text("designation")
+        _unique(seen, designation, row, "designation")
+        diameter, pitch = row.number("nominal_diameter_mm"), row.number("pitch_mm")
+        if designation != f"M{diameter:g}x{pitch:g}":
+            raise row.error("designation", f"{designation!r} does not match M{diameter:g}x{pitch:g}")
+        seats = [s.strip() for s in row.text("seats").split(";")]
+        for seat in seats:
+            if seat not in SEATS:
+                raise row.error("seats", f"{seat!r} is not one of {', '.join(SEATS)}")
+        if len(set(seats)) != len(seats):
+            raise row.error("seats", "lists a seat twice")
+        gasket = row.optional_number("standard_gasket_mm")
+        if ("flat" in seats) != (gasket is not None):
+            raise row.error("standard_gasket_mm", "is required exactly when the size has a flat seat")
+        threads[designation] = ThreadSize(
+            designation, diameter, pitch, frozenset(seats), gasket, row.text("source")
+        )
+    return threads
+
+
+def _read_reaches(path: pathlib.Path, content: bytes, threads: dict[str, ThreadSize]) -> tuple[StandardReach, ...]:
+    reaches = []
+    seen: dict[Any, int] = {}
+    for row in _rows(path, content, REACH_COLUMNS):
+        size = _known_thread(threads, row)
+        seat, reach = row.text("seat"), row.number("reach_mm")
+        _unique(seen, (size.designation, seat, reach), row, "reach_mm")
+        reaches.append(StandardReach(
+            size.designation, seat, reach, row.optional_number("tolerance_mm"), row.text("label"), row.text("source")
+        ))
+    return tuple(reaches)
+
+
+def _read_hexes(path: pathlib.Path, content: bytes) -> tuple[HexSize, ...]:
+    hexes = []
+    seen: dict[Any, int] = {}
+    for row in _rows(path, content, HEX_COLUMNS):
+        across_flats = row.number("across_flats_mm")
+        _unique(seen, across_flats, row, "across_flats_mm")
+        socket_od = row.number("socket_od_mm")
+        if socket_od <= across_corners_mm(across_flats):
+            raise row.error("socket_od_mm", f"{socket_od:g} mm is not wider than the hex's corners "
+                                            f"({across_corners_mm(across_flats):.3f} mm)")
+        hexes.append(HexSize(across_flats, row.text("family"), row.text("label"), socket_od, row.text("source")))
+    return tuple(sorted(hexes, key=lambda h: h.across_flats_mm))
+
+
+def _read_torques(
+    path: pathlib.Path, content: bytes, threads: dict[str, ThreadSize]
+) -> dict[tuple[str, str, str], TorqueGuide]:
+    torques: dict[tuple[str, str, str], TorqueGuide] = {}
+    seen: dict[Any, int] = {}
+    for row in _rows(path, content, TORQUE_COLUMNS):
+        size = _known_thread(threads, row)
+        seat, material = row.text("seat"), row.choice("material", MATERIALS)
+        key = (size.designation, seat, material)
+        _unique(seen, key, row, "material")
+        low, high = row.number("min_nm"), row.number("max_nm")
+        if low > high:
+            raise row.error("max_nm", f"{high:g} is below min_nm {low:g}")
+        reused = row.optional_number("reused_gasket_turn_angle_deg")
+        if reused is not None and seat != "flat":
+            raise row.error("reused_gasket_turn_angle_deg", "only a flat seat has a gasket to re-use")
+        torques[key] = TorqueGuide(
+            size.designation, seat, material, low, high,
+            row.optional_number("turn_angle_deg"), row.text("source"), reused,
+        )
+    return torques
+
+
+# --- the JSON view ----------------------------------------------------------------------
+
+
+def catalog_as_document(catalog: Catalog) -> dict[str, Any]:
+    """A JSON-ready view of the whole catalogue, every value beside its source.
+
+    Served at GET /v1/standard-sizes. Derived numbers (ISO 68-1 basic diameters, ISO 965-1
+    limits, hex across-corners) are computed here so the document and the engine agree.
+    """
+    threads = []
+    for size in sorted(catalog.threads.values(), key=lambda t: t.nominal_diameter_mm):
+        d, p = size.nominal_diameter_mm, size.pitch_mm
+        limits = limits_6g_6H(d, p)
+        threads.append({
+            "designation": size.designation,
+            "nominal_diameter_mm": d,
+            "pitch_mm": p,
+            "seats": sorted(size.seats),
+            "standard_gasket_mm": size.standard_gasket_mm,
+            "source": size.source,
+            "basic_diameters": {
+                "pitch_diameter_mm": _r(basic_pitch_diameter(d, p)),
+                "minor_diameter_mm": _r(basic_minor_diameter(d, p)),
+                "external_root_diameter_mm": _r(external_root_diameter(d, p)),
+                "source": DERIVED_SOURCES["thread_basic_profile"],
+            },
+            "limits_6g_6H": {
+                "external_major_mm": [_r(limits.external_major_min_mm), _r(limits.external_major_max_mm)],
+                "external_pitch_mm": [_r(limits.external_pitch_min_mm), _r(limits.external_pitch_max_mm)],
+                "internal_pitch_mm": [_r(limits.internal_pitch_min_mm), _r(limits.internal_pitch_max_mm)],
+                "internal_minor_mm": [_r(limits.internal_minor_min_mm), _r(limits.internal_minor_max_mm)],
+                "source": DERIVED_SOURCES["thread_limits_6g_6H"],
+            },
+            "reaches": [
+                {"seat": r.seat, "reach_mm": r.reach_mm, "tolerance_mm": r.tolerance_mm,
+                 "label": r.label, "source": r.source}
+                for r in sorted(catalog.reaches, key=lambda r: (r.seat, r.reach_mm))
+                if r.thread == size.designation
+            ],
+        })
+    hexes = [
+        {"across_flats_mm": h.across_flats_mm, "family": h.family, "label": h.label,
+         "across_corners_mm": _r(across_corners_mm(h.across_flats_mm)),
+         "socket_od_mm": h.socket_od_mm, "source": h.source}
+        for h in catalog.hexes
+    ]
+    families: dict[str, list[str]] = {}
+    for h in catalog.hexes:
+        families.setdefault(h.family, []).append(h.label)
+    torque = [
+        {"thread": t.thread, "seat": t.seat, "material": t.material,
+         "min_nm": t.min_nm, "max_nm": t.max_nm, "unit": "N*m",
+         "turn_angle_deg": t.turn_angle_deg,
+         "reused_gasket_turn_angle_deg": t.reused_gasket_turn_angle_deg, "source": t.source}
+        for t in sorted(catalog.torques.values(), key=_torque_order(catalog))
+    ]
+    return {
+        "catalog_version": catalog.version,
+        "threads": threads,
+        "hexes": hexes,
+        "hex_families": [{"family": name, "members": labels} for name, labels in families.items()],
+        "torque": torque,
+        "sources": dict(catalog.sources),
+        "cautions": list(CAUTIONS),
+    }
+
+
+def _r(value: float) -> float:
+    # Three decimals: the precision ISO 724 and ISO 965-1 tabulate in.
+    return round(value, 3)
+
+
+def _torque_order(catalog: Catalog) -> Callable[[TorqueGuide], tuple[float, str, str]]:
+    def key(t: TorqueGuide) -> tuple[float, str, str]:
+        size = catalog.threads.get(t.thread)
+        return (size.nominal_diameter_mm if size else math.inf, t.seat, t.material)
+    return key
