@@ -57,6 +57,8 @@ OUTPUT_UNITS = {
 # The trade writes torque as ft-lb, lb-ft, ft·lbf, in-lb, lbs.ft …; pint would read
 # "ft-lb" as a subtraction and "lb" as a mass, so these spellings are rewritten first.
 _TORQUE_SPELLINGS = [
+    (re.compile(r"\b(?:foot|feet)[- ]pounds?(?:[- ]force)?\b", re.I), "lbf*ft"),
+    (re.compile(r"\binch(?:es)?[- ]pounds?(?:[- ]force)?\b", re.I), "lbf*inch"),
     (re.compile(r"\b(?:ft|foot|feet)\s*[-·.*× ]?\s*(?:lbf|lbs|lb)\b", re.I), "lbf*ft"),
     (re.compile(r"\b(?:lbf|lbs|lb)\s*[-·.*× ]?\s*(?:ft|foot|feet)\b", re.I), "lbf*ft"),
     (re.compile(r"\b(?:in|inch|inches)\s*[-·.*× ]?\s*(?:lbf|lbs|lb)\b", re.I), "lbf*inch"),
@@ -73,6 +75,7 @@ _GENERAL_SPELLINGS = [
 ]
 
 
+_NOT_FINITE = re.compile(r"^[-+]?(?:nan|inf|infinity)\b", re.I)
 _STARTS_WITH_NUMBER = re.compile(r"^\(?\s*[-+]?(?:\d|\.\d)")
 
 
@@ -121,6 +124,8 @@ def parse_quantity(text: str, kind_name: str) -> float:
         number = None
     if number is not None:
         return convert(check_finite(number, kind.name), kind.bare, kind.canonical)
+    if _NOT_FINITE.match(normalised):
+        raise UnitError("must be a finite number, not NaN or infinity")
     if not _STARTS_WITH_NUMBER.match(normalised):
         raise UnitError(f"{text!r} has no number; give a {kind.name} such as '19 mm'")
     reg = registry()

@@ -18,6 +18,10 @@ from .model import TorqueAdvice
 LENGTH = "length"
 TORQUE = "torque"
 
+# Lengths closer than a nanometre are equal: it keeps a verdict from flipping on the
+# last bit of a unit conversion (0.75 in -> 19.049999999999997 mm).
+EPSILON_MM = 1e-9
+
 
 def check_thread(ctx: FitContext) -> None:
     plug, port = ctx.plug.thread, ctx.port.thread
@@ -55,7 +59,7 @@ def check_reach(ctx: FitContext) -> None:
     recess = geometry["thread_recess"]
     tolerance = ctx.flush_tolerance()
     worst_protrusion = ctx.high(protrusion)
-    if worst_protrusion > tolerance:
+    if worst_protrusion > tolerance + EPSILON_MM:
         ctx.add("REACH_LONG", "reach", "warn",
                 "The plug's threads stand {thread_protrusion} into the chamber (worst case), "
                 "beyond the flush tolerance of {flush_tolerance}: exposed threads carbon up "
@@ -63,7 +67,7 @@ def check_reach(ctx: FitContext) -> None:
                 "fits flush.",
                 thread_protrusion=(worst_protrusion, LENGTH), flush_tolerance=(tolerance, LENGTH))
     worst_recess = ctx.low(recess)
-    if worst_recess < -tolerance:
+    if worst_recess < -tolerance - EPSILON_MM:
         ctx.add("REACH_SHORT", "reach", "warn",
                 "The plug's thread end stops {shortfall} short of the chamber (long side, "
                 "worst case), beyond the flush tolerance of {flush_tolerance}: the head's "
@@ -98,7 +102,7 @@ def _clearance_check(ctx: FitContext, check: str, code: str, entry_name: str, ob
         return
     minimum = ctx.min_clearance()
     worst = ctx.low(margin)
-    if worst >= minimum:
+    if worst >= minimum - EPSILON_MM:
         return
     if worst < 0:
         message = ("The electrode would meet the {obstacle}: at its closest it reaches {overlap} "
@@ -134,7 +138,7 @@ def check_tool_clearance(ctx: FitContext) -> None:
     if size is None:
         ctx.not_checked("tool_clearance", "the catalogue has no socket size for this hex")
         return
-    if size.socket_od_mm > well_bore:
+    if size.socket_od_mm > well_bore + EPSILON_MM:
         ctx.add("TOOL_CLEARANCE", "tool_clearance", "fail",
                 "A thin-wall socket for the {hex} hex is about {socket_od} across, wider than "
                 "the plug well's {well_bore} bore by {interference}: the plug cannot be fitted "
@@ -189,7 +193,7 @@ def check_torque(ctx: FitContext) -> None:
         ctx.assume("the torque guidance is for clean, dry threads; lubricated threads reach a "
                    "higher preload at the same torque")
     planned = ctx.options.torque
-    if planned is not None and not (guide.min_nm <= planned <= guide.max_nm):
+    if planned is not None and not (guide.min_nm - 1e-9 <= planned <= guide.max_nm + 1e-9):
         side = "below" if planned < guide.min_nm else "above"
         ctx.add("TORQUE_OUT_OF_RANGE", "torque", "warn",
                 f"The planned torque of {{planned}} is {side} the recommended {{min}} to {{max}} "
