@@ -179,26 +179,36 @@ def voltage_demand_kv(gap_mm: float, equivalent_pressure_bar: float) -> float:
     return breakdown_kv(equivalent_pressure_bar, gap_mm)
 
 
-def largest_gap_mm(voltage_kv: float, equivalent_pressure_bar: float,
-                   low_mm: float = 0.0, high_mm: float = 50.0) -> float:
-    """The widest gap whose demand stays at or below `voltage_kv`, by bisection.
+def largest_gap_mm(voltage_kv: float, equivalent_pressure_bar: float, high_mm: float = 50.0) -> float:
+    """The widest gap whose demand stays at or below `voltage_kv` (capped at `high_mm`).
 
-    The demand rises monotonically with the gap to the right of Paschen's minimum, which
-    covers every engine density; the search starts at the gap of that minimum.
+    Above the crossover the uniform-field relation is a quadratic in √(pd) and is solved
+    in closed form; below it (near-vacuum densities only) Paschen's law is inverted by
+    bisection on its rising branch, right of its minimum. No gap sparks below that minimum.
     """
-    pd_min_torr_cm, _ = paschen_minimum()
-    low_mm = min(high_mm, max(low_mm, pd_min_torr_cm / (equivalent_pressure_bar * TORR_PER_BAR) * 10.0))
-    if voltage_demand_kv(low_mm, equivalent_pressure_bar) > voltage_kv:
-        return 0.0
-    if voltage_demand_kv(high_mm, equivalent_pressure_bar) <= voltage_kv:
-        return high_mm
-    for _ in range(100):
-        middle = 0.5 * (low_mm + high_mm)
-        if voltage_demand_kv(middle, equivalent_pressure_bar) <= voltage_kv:
-            low_mm = middle
-        else:
-            high_mm = middle
-    return low_mm
+    crossover_pd = paschen_crossover_torr_cm()
+    pd_torr_cm = _uniform_field_pd_bar_cm(voltage_kv) * TORR_PER_BAR
+    if pd_torr_cm <= crossover_pd:
+        pd_min, volts_min = paschen_minimum()
+        if voltage_kv * 1000.0 < volts_min:
+            return 0.0
+        low, high = pd_min, crossover_pd
+        for _ in range(60):
+            middle = 0.5 * (low + high)
+            if paschen_breakdown_kv(middle) <= voltage_kv:
+                low = middle
+            else:
+                high = middle
+        pd_torr_cm = low
+    return min(high_mm, pd_torr_cm / (equivalent_pressure_bar * TORR_PER_BAR) * 10.0)
+
+
+def _uniform_field_pd_bar_cm(voltage_kv: float) -> float:
+    """p·d (bar·cm) at which the uniform-field relation gives `voltage_kv`."""
+    a, b = UNIFORM_FIELD_ROOT_KV, UNIFORM_FIELD_LINEAR_KV
+    # b·x² + a·x − V = 0 with x = √(pd): x = (−a + √(a² + 4·b·V)) / (2·b)
+    root = (-a + math.sqrt(a * a + 4.0 * b * voltage_kv)) / (2.0 * b)
+    return root * root
 
 
 @dataclass(frozen=True, slots=True)

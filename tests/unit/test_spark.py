@@ -173,3 +173,11 @@ def test_the_demand_rises_through_the_crossover_between_the_two_relations(gap, p
         return
     assert breakdown_kv(pressure, gap * 1.01) >= breakdown_kv(pressure, gap)
     assert math.isfinite(breakdown_kv(pressure, gap))
+
+
+@pytest.mark.parametrize("voltage_kv", [0.31, 0.5, 1.0, 1.5, 3.0, 24.0])
+def test_the_largest_gap_inverts_the_demand_on_both_sides_of_the_crossover(voltage_kv):
+    # derived: inverting the demand must give back the voltage (Paschen below ~1.7 kV at
+    # 1 bar, the uniform-field relation above it)
+    widest = largest_gap_mm(voltage_kv, 1.0)
+    assert voltage_demand_kv(widest, 1.0) == pytest.approx(voltage_kv, rel=1e-6)
