@@ -15,7 +15,6 @@ from __future__ import annotations
 import csv
 import functools
 import hashlib
-import importlib.resources
 import io
 import math
 import pathlib
@@ -87,7 +86,9 @@ def thin_wall_socket_od_mm(across_flats_mm: float, wall_mm: float = THIN_WALL_SO
 
 def default_catalog_directory() -> pathlib.Path:
     """The installed `seed_catalog` package directory (works from a checkout or a pip install)."""
-    return pathlib.Path(str(importlib.resources.files("seed_catalog")))
+    import seed_catalog
+
+    return pathlib.Path(seed_catalog.__file__).resolve().parent
 
 
 def load_catalog(directory: pathlib.Path | None = None) -> Catalog:
@@ -96,7 +97,17 @@ def load_catalog(directory: pathlib.Path | None = None) -> Catalog:
     The cache key is the directory plus each file's size and modification time, so a
     changed file is read again and everything else costs four stat calls.
     """
-    root = (directory if directory is not None else default_catalog_directory()).resolve()
+    if directory is None:
+        return _default_catalog()
+    root = directory.resolve()
+    return _load_cached(root, _fingerprint(root))
+
+
+@functools.lru_cache(maxsize=1)
+def _default_catalog() -> Catalog:
+    """The installed catalogue, read once per process: it is looked up on every request
+    and every loaded thread field, where even four stat calls would show."""
+    root = default_catalog_directory()
     return _load_cached(root, _fingerprint(root))
 
 

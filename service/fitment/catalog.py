@@ -76,6 +76,8 @@ class Catalog:
     hexes: tuple[HexSize, ...] = ()
     torques: Mapping[tuple[str, str, str], TorqueGuide] = field(default_factory=dict)
     sources: Mapping[str, str] = field(default_factory=dict)
+    # Hex look-ups repeat the same few sizes; memoised per catalogue, never compared.
+    _hex_memo: dict = field(default_factory=dict, compare=False, repr=False)
 
     def thread(self, designation: str) -> ThreadSize | None:
         return self.threads.get(designation)
@@ -88,6 +90,15 @@ class Catalog:
         return None
 
     def hex_size(self, across_flats_mm: float) -> HexSize | None:
+        try:
+            return self._hex_memo[across_flats_mm]
+        except KeyError:
+            size = self._nearest_hex(across_flats_mm)
+            if len(self._hex_memo) < 1024:
+                self._hex_memo[across_flats_mm] = size
+            return size
+
+    def _nearest_hex(self, across_flats_mm: float) -> HexSize | None:
         best: HexSize | None = None
         for size in self.hexes:
             gap = abs(size.across_flats_mm - across_flats_mm)

@@ -13,7 +13,6 @@ from typing import Callable
 
 from .context import FitContext
 from .designation import parse_designation
-from .model import TorqueAdvice
 
 LENGTH = "length"
 TORQUE = "torque"
@@ -104,28 +103,36 @@ def _clearance_check(ctx: FitContext, check: str, code: str, entry_name: str, ob
     worst = ctx.low(margin)
     if worst >= minimum - EPSILON_MM:
         return
-    if worst < 0:
-        message = ("The electrode would meet the {obstacle}: at its closest it reaches {overlap} "
-                   "past the {obstacle} (worst case). It needs {shortfall} more room to keep the "
-                   "minimum clearance of {min_clearance}.")
-    else:
-        message = ("At its closest the {obstacle} comes within {margin} of the electrode "
-                   "(worst case), less than the minimum clearance of {min_clearance} by "
-                   "{shortfall}: it can strike the plug.")
-    ctx.add(code, check, "fail", message.replace("{obstacle}", obstacle),
+    template = _CONTACT_MESSAGES[obstacle][worst < 0]
+    ctx.add(code, check, "fail", template,
             margin=(worst, LENGTH), overlap=(max(0.0, -worst), LENGTH),
             min_clearance=(minimum, LENGTH), shortfall=(minimum - worst, LENGTH))
 
 
+def _contact_messages(obstacle: str) -> tuple[str, str]:
+    """(too close, interfering) message templates for one obstacle."""
+    return (
+        f"At its closest the {obstacle} comes within {{margin}} of the electrode (worst case), "
+        "less than the minimum clearance of {min_clearance} by {shortfall}: it can strike the plug.",
+        f"The electrode would meet the {obstacle}: at its closest it reaches {{overlap}} past the "
+        f"{obstacle} (worst case). It needs {{shortfall}} more room to keep the minimum clearance "
+        "of {min_clearance}.")
+
+
+_PISTON = "piston crown at top dead centre"
+_VALVE = "valve"
+_CONTACT_MESSAGES = {obstacle: _contact_messages(obstacle) for obstacle in (_PISTON, _VALVE)}
+
+
 def check_piston(ctx: FitContext) -> None:
     port = ctx.port
-    _clearance_check(ctx, "piston", "PISTON_CONTACT", "piston_margin", "piston crown at top dead centre",
+    _clearance_check(ctx, "piston", "PISTON_CONTACT", "piston_margin", _PISTON,
                      port.seat_to_piston, port.piston_clearance, "seat_to_piston", "piston_clearance")
 
 
 def check_valve(ctx: FitContext) -> None:
     port = ctx.port
-    _clearance_check(ctx, "valve", "VALVE_CONTACT", "valve_margin", "valve",
+    _clearance_check(ctx, "valve", "VALVE_CONTACT", "valve_margin", _VALVE,
                      port.seat_to_valve, port.valve_clearance, "seat_to_valve", "valve_clearance")
 
 
@@ -188,7 +195,7 @@ def check_torque(ctx: FitContext) -> None:
         ctx.not_checked("torque", f"the catalogue has no torque guidance for {port.thread} "
                                   f"{port.seat} seat in {material.replace('_', ' ')}")
         return
-    ctx.torque = TorqueAdvice(guide.min_nm, guide.max_nm, guide.turn_angle_deg, guide.source)
+    ctx.torque = guide
     if ctx.options.lubrication not in (None, "dry"):
         ctx.assume("the torque guidance is for clean, dry threads; lubricated threads reach a "
                    "higher preload at the same torque")

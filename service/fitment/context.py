@@ -6,10 +6,26 @@ defaults and requirements the same way.
 """
 from __future__ import annotations
 
-from .catalog import Catalog
+from functools import lru_cache
+
+from .catalog import Catalog, TorqueGuide
 from .defaults import DYNAMIC_ALLOWANCE_MM, FLUSH_TOLERANCE_MM, MIN_CLEARANCE_MM, Default
-from .model import Bounds, Finding, Options, PlugSpec, PortSpec, TorqueAdvice, Value
+from .model import Bounds, Finding, Options, PlugSpec, PortSpec, Value
 from .stack import Stack
+
+
+@lru_cache(maxsize=512)
+def _not_checked_message(check: str, missing: str) -> str:
+    return f"The {check.replace('_', ' ')} check was not made: {missing}."
+
+
+def _default_note(name: str, default: Default) -> str:
+    return f"{name} not given: {default.value:g} mm used ({default.source})"
+
+
+_NOTES = {name: _default_note(name, default) for name, default in (
+    ("min_clearance", MIN_CLEARANCE_MM), ("flush_tolerance", FLUSH_TOLERANCE_MM),
+    ("dynamic_allowance", DYNAMIC_ALLOWANCE_MM))}
 
 
 class FitContext:
@@ -25,7 +41,7 @@ class FitContext:
         self.findings: list[Finding] = []
         self.analysis: dict[str, dict[str, Value]] = {}
         self.assumptions: list[str] = []
-        self.torque: TorqueAdvice | None = None
+        self.torque: TorqueGuide | None = None
         self.geometry: dict[str, Bounds] = {}
         # Stacks along the plug axis (mm from the head's seat face); None when the
         # inputs needed for them are missing. Filled by `geometry.derive`.
@@ -43,9 +59,7 @@ class FitContext:
     def not_checked(self, check: str, missing: str) -> None:
         """Record that `check` could not run; a required check turns this into a fail."""
         severity = "fail" if check in self.options.require else "info"
-        self.findings.append(Finding(
-            "NOT_CHECKED", check, severity,
-            f"The {check.replace('_', ' ')} check was not made: {missing}.", {}))
+        self.findings.append(Finding("NOT_CHECKED", check, severity, _not_checked_message(check, missing), {}))
 
     def assume(self, text: str) -> None:
         self.assumptions.append(text)
@@ -56,8 +70,7 @@ class FitContext:
             return given
         if name not in self._defaults_noted:
             self._defaults_noted.add(name)
-            self.assumptions.append(
-                f"{name} not given: {default.value:g} mm used ({default.source})")
+            self.assumptions.append(_NOTES[name])
         return default.value
 
     def min_clearance(self) -> float:

@@ -12,6 +12,9 @@ towards the chamber), built as tolerance stacks before any check runs.
 """
 from __future__ import annotations
 
+from functools import lru_cache
+
+from .catalog import ThreadSize
 from .context import FitContext
 from .model import Dim
 from .stack import ZERO, Stack
@@ -21,9 +24,14 @@ def _standard_gasket(ctx: FitContext, thread: str, who: str) -> float | None:
     size = ctx.catalog.thread(thread)
     if size is None or size.standard_gasket_mm is None:
         return None
-    ctx.assume(f"{who}: the standard installed gasket for {thread}, "
-               f"{size.standard_gasket_mm:g} mm, is assumed ({size.source})")
+    ctx.assume(_gasket_note(who, size))
     return size.standard_gasket_mm
+
+
+@lru_cache(maxsize=64)
+def _gasket_note(who: str, size: ThreadSize) -> str:
+    return (f"{who}: the standard installed gasket for {size.designation}, "
+            f"{size.standard_gasket_mm:g} mm, is assumed ({size.source})")
 
 
 def _gasket(ctx: FitContext) -> Stack | None:
@@ -33,7 +41,7 @@ def _gasket(ctx: FitContext) -> Stack | None:
     if plug.gasket_thickness is not None:
         return Stack.of(plug.gasket_thickness)
     thickness = _standard_gasket(ctx, plug.thread, "plug gasket_thickness not given")
-    return None if thickness is None else Stack(thickness)
+    return None if thickness is None else Stack.exact(thickness)
 
 
 def _port_depth(ctx: FitContext) -> Stack | None:
@@ -45,7 +53,7 @@ def _port_depth(ctx: FitContext) -> Stack | None:
     if port.seat == "conical":
         return Stack.of(port.design_reach)
     thickness = _standard_gasket(ctx, port.thread, "port depth derived from design_reach")
-    return None if thickness is None else Stack.of(port.design_reach) - Stack(thickness)
+    return None if thickness is None else Stack.of(port.design_reach) - Stack.exact(thickness)
 
 
 def _clearance_stack(ctx: FitContext, from_seat: Dim | None, from_breakout: Dim | None) -> Stack | None:
@@ -79,8 +87,9 @@ def derive(ctx: FitContext) -> None:
     valve = _clearance_stack(ctx, port.seat_to_valve, port.valve_clearance)
     if piston is None and valve is None:
         return
-    allowance = Stack(ctx.dynamic_allowance())
+    # Margin = obstacle - tip - dynamic allowance; the allowance is exact.
+    reserved = ctx.tip + Stack.exact(ctx.dynamic_allowance())
     if piston is not None:
-        geometry["piston_margin"] = (piston - ctx.tip - allowance).bounds()
+        geometry["piston_margin"] = (piston - reserved).bounds()
     if valve is not None:
-        geometry["valve_margin"] = (valve - ctx.tip - allowance).bounds()
+        geometry["valve_margin"] = (valve - reserved).bounds()

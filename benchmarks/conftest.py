@@ -1,0 +1,1 @@
+"""Benchmarks are not tests: run them with `make bench` (pytest-benchmark)."""
