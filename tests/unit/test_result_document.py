@@ -1,0 +1,49 @@
+"""The result document: its shape (validated by the documented FitResultSchema) and its
+units. 1 in = 25.4 mm and 1 lbf·ft = 1.355818 N·m (NIST SP 811, 2008, appendix B)."""
+from __future__ import annotations
+
+import pytest
+
+from schemas.results import FitResultSchema, render_message, result_document
+
+from .test_fit_geometry import FLUSH_HEAD, FLUSH_PLUG
+
+
+@pytest.mark.parametrize("system", ["metric", "imperial"])
+def test_the_written_document_matches_its_documented_schema(check, system):
+    result = check(dict(FLUSH_PLUG, hex=16, reach=21.0), dict(FLUSH_HEAD, well_bore=21.0, material="cast_iron"),
+                   {"torque": 50})
+    document = result_document(result, system)
+    assert FitResultSchema().validate(document) == {}
+    assert {f["code"] for f in document["findings"]} >= {"REACH_LONG", "TOOL_CLEARANCE", "TORQUE_OUT_OF_RANGE"}
+
+
+def test_imperial_answers_are_in_inches_and_foot_pounds(check):
+    """Piston margin 4.0 mm = 0.15748 in; M14 flat cast-iron torque 25-35 N·m =
+    18.439-25.815 lbf·ft (common practice range, reference-values.md)."""
+    document = result_document(check(FLUSH_PLUG, dict(FLUSH_HEAD, material="cast_iron")), "imperial")
+    margin = document["geometry"]["piston_margin"]
+    assert margin["unit"] == "in" and margin["nominal"] == pytest.approx(4.0 / 25.4, abs=1e-5)
+    torque = document["torque"]
+    assert torque["unit"] == "lbf*ft"
+    assert (torque["min"], torque["max"]) == (pytest.approx(18.439, abs=1e-3), pytest.approx(25.815, abs=1e-3))
+
+
+def test_messages_read_in_the_clients_units(check):
+    """Δ = (26.5 - 1.5) - 17.5 = 7.5 mm = 0.295 in."""
+    result = check(dict(FLUSH_PLUG, reach=26.5), FLUSH_HEAD)
+    metric = result_document(result, "metric")["findings"][0]
+    imperial = result_document(result, "imperial")["findings"][0]
+    assert metric["code"] == "REACH_LONG"
+    assert "7.50 mm" in metric["message"] and "0.50 mm" in metric["message"]
+    assert "0.295 in" in imperial["message"]
+    assert metric["values"]["thread_protrusion"] == {"value": 7.5, "unit": "mm"}
+
+
+def test_a_message_without_placeholders_is_left_alone():
+    assert render_message("Seat mismatch.", {"x": {"value": 1.0, "unit": "mm"}}) == "Seat mismatch."
+
+
+def test_every_result_carries_the_guidance_caution(check):
+    cautions = " ".join(result_document(check(FLUSH_PLUG, FLUSH_HEAD))["cautions"])
+    assert "guidance" in cautions and "service data" in cautions and "regulations" in cautions
