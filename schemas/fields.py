@@ -73,6 +73,10 @@ class Quantity(fields.Field):
             raise ValidationError(f"must be at most {self.maximum:g} {_CANONICAL[self.kind]}")
 
     def _serialize(self, value: Any, attr: str | None, obj: Any, **kwargs: Any) -> Any:
+        # A bare temperature reads as degC but is held in K: write the unit, so a stored
+        # head sent back unchanged (GET then PUT) keeps its temperature.
+        if value is not None and self.kind == "temperature":
+            return f"{value!r} K"
         return value
 
 

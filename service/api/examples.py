@@ -1,0 +1,65 @@
+"""Example documents for the OpenAPI file and the README.
+
+Invented example records (EXAMPLE-* identifiers), not catalogue data: the sizes are the
+standard M14x1.25 flat-seat family (see seed_catalog/), the rest is made up to show the
+shape of a request.
+"""
+from __future__ import annotations
+
+PLUG = {
+    "sku": "EXAMPLE-14F-19",
+    "description": "Example line: M14 flat seat, 19 mm reach, resistor",
+    "thread": "M14x1.25",
+    "seat": "flat",
+    "reach": {"value": 19.0, "unit": "mm", "tol": 0.2},
+    "gasket_thickness": 1.5,
+    "firing_end": 4.0,
+    "hex": 16.0,
+    "resistor": True,
+    "gap": 0.8,
+    "quantity_on_hand": 12,
+    "location": "shelf B3",
+}
+
+HEAD = {
+    "head_id": "EXAMPLE-HEAD-1",
+    "description": "Example aluminium head, flat-seat M14 port",
+    "thread": "M14x1.25",
+    "seat": "flat",
+    "port_depth": 17.5,
+    "piston_clearance": 8.0,
+    "well_bore": 28.0,
+    "hex": 16.0,
+    "resistor_required": True,
+    "material": "aluminium",
+}
+
+FIT_CHECK_INLINE = {
+    "plug": {"thread": "M14x1.25", "seat": "flat", "reach": 19.0, "gasket_thickness": 1.5, "firing_end": 4.0},
+    "head": {"thread": "M14x1.25", "seat": "flat", "port_depth": 17.5, "piston_clearance": 8.0},
+    "options": {"stack": "worst_case"},
+}
+
+FIT_CHECK_BY_REFERENCE = {
+    "plug": {"sku": "EXAMPLE-14F-19"},
+    "head": {"head_id": "EXAMPLE-HEAD-1"},
+}
+
+FIT_RESULT = {
+    "verdict": "pass",
+    "thread": "M14x1.25",
+    "findings": [],
+    "geometry": {
+        "thread_protrusion": {"nominal": 0.0, "min": 0.0, "max": 0.0, "rss_min": 0.0, "rss_max": 0.0, "unit": "mm"},
+        "thread_recess": {"nominal": 0.0, "min": 0.0, "max": 0.0, "rss_min": 0.0, "rss_max": 0.0, "unit": "mm"},
+        "tip_position": {"nominal": 21.5, "min": 21.5, "max": 21.5, "rss_min": 21.5, "rss_max": 21.5, "unit": "mm"},
+        "piston_margin": {"nominal": 4.0, "min": 4.0, "max": 4.0, "rss_min": 4.0, "rss_max": 4.0, "unit": "mm"},
+    },
+    "analysis": {},
+    "torque": None,
+    "assumptions": ["min_clearance 1.5 mm (default)"],
+    "cautions": ["Torque, clearance and gap figures are guidance: the engine maker's service data, "
+                 "local regulations and licensed practice come first."],
+    "engine_version": "1",
+    "catalog_version": "0123456789ab",
+}

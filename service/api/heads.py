@@ -1,0 +1,89 @@
+"""/v1/heads: cylinder-head plug ports (list, get, create, replace, delete)."""
+from __future__ import annotations
+
+from flask.views import MethodView
+
+from schemas.inventory import HeadFilterSchema, HeadReplacementSchema
+from schemas.specs import StoredHeadSchema
+from service import db, repository
+from service.api import examples, inventory
+from service.api.base import Blueprint
+
+blp = Blueprint("heads", __name__, url_prefix="/v1/heads",
+                description="Cylinder-head plug ports, under the shop's own head_id.")
+
+HEAD_ID_PARAMETER = {"in": "path", "name": "head_id", "description": "The shop's identifier: 1-64 letters, "
+                     "digits, '-', '_' or '.', starting with a letter or digit; case-sensitive."}
+
+
+@blp.route("")
+class Heads(MethodView):
+    @blp.arguments(HeadFilterSchema, location="query")
+    @blp.response(200, StoredHeadSchema(many=True), example=[examples.HEAD])
+    @blp.paginate()
+    def get(self, filters, pagination_parameters):
+        """List heads, filtered by text in the description (q), thread and seat
+
+        Ordered by head_id; paginated with `page` and `page_size` (X-Pagination header).
+        """
+        query = repository.head_query(text=filters.get("q"), thread=filters.get("thread"), seat=filters.get("seat"))
+        repo = repository.heads(db.session())
+        rows, total = repo.page(query, pagination_parameters.first_item, pagination_parameters.page_size)
+        pagination_parameters.item_count = total
+        return [repo.mapping.document_of(row) for row in rows]
+
+    @blp.etag
+    @blp.arguments(StoredHeadSchema, example=examples.HEAD)
+    @blp.response(201, StoredHeadSchema, example=examples.HEAD,
+                  headers={"Location": {"description": "URL of the new head", "schema": {"type": "string"}}})
+    @blp.alt_response(409, response="CONFLICT")
+    def post(self, document):
+        """Create a head
+
+        The client chooses the head_id; one that exists is a 409. Needs an API key.
+        """
+        session = db.session()
+        return inventory.create(blp, repository.heads(session), document, "heads.HeadItem", session)
+
+
+@blp.route("/<string:head_id>", parameters=[HEAD_ID_PARAMETER])
+class HeadItem(MethodView):
+    @blp.etag
+    @blp.response(200, StoredHeadSchema, example=examples.HEAD)
+    @blp.alt_response(404, response="NOT_FOUND")
+    def get(self, head_id):
+        """Get one head
+
+        The body can be sent back unchanged with PUT; the ETag guards it (If-Match).
+        """
+        repo = repository.heads(db.session())
+        row = repo.get(head_id)
+        if row is None:
+            inventory.not_found("head", "head_id", head_id)
+        blp.set_etag(inventory.etag_data(row, "head_id"))
+        return repo.mapping.document_of(row), inventory.last_modified(row)
+
+    @blp.etag
+    @blp.arguments(HeadReplacementSchema, example=examples.HEAD)
+    @blp.response(200, StoredHeadSchema, example=examples.HEAD)
+    @blp.alt_response(404, response="NOT_FOUND")
+    @blp.alt_response(409, response="CONFLICT")
+    def put(self, document, head_id):
+        """Replace a head
+
+        A full replacement: fields left out are cleared. Needs an API key; send If-Match
+        with the ETag of a GET to refuse the change (412) if someone changed it since.
+        """
+        session = db.session()
+        return inventory.replace(blp, repository.heads(session), head_id, document, "head", session)
+
+    @blp.etag
+    @blp.response(204)
+    @blp.alt_response(404, response="NOT_FOUND")
+    def delete(self, head_id):
+        """Delete a head
+
+        Needs an API key; If-Match is honoured when sent.
+        """
+        session = db.session()
+        inventory.delete(blp, repository.heads(session), head_id, "head", session)
