@@ -13,6 +13,15 @@ from typing import Callable
 
 from .context import FitContext
 from .designation import parse_designation
+from .spark import STANDARD_INTAKE_PRESSURE_BAR, STANDARD_INTAKE_TEMPERATURE_K, estimate_spark
+from .stack import Stack
+from .strength import (
+    HEAD_MATERIAL_SHEAR_STRENGTH,
+    EngagementAllowances,
+    engaged_length_mm,
+    port_thread_limits,
+    thread_strength,
+)
 
 LENGTH = "length"
 TORQUE = "torque"
@@ -210,6 +219,169 @@ def check_torque(ctx: FitContext) -> None:
                 planned=(planned, TORQUE), min=(guide.min_nm, TORQUE), max=(guide.max_nm, TORQUE))
 
 
+def check_thread_strength(ctx: FitContext) -> None:
+    """Will the head's thread hold? Preload plus gas load against the port thread's shear
+    strength over the worst-case engaged length (model and sources: `strength.py`)."""
+    plug, port, options = ctx.plug, ctx.port, ctx.options
+    size = parse_designation(port.thread)
+    if plug.thread != port.thread or plug.seat != port.seat or size is None or size[1] is None:
+        ctx.not_checked("thread_strength", "it needs a plug of the port's own thread and seat")
+        return
+    if ctx.thread_end is None or ctx.port_depth is None:
+        ctx.not_checked("thread_strength", _missing_for_thread_end(ctx, need_port=True))
+        return
+    material = port.material or "aluminium"
+    torque = options.torque
+    if torque is None:
+        guide = ctx.catalog.torque_for(port.thread, port.seat, material)
+        if guide is None:
+            ctx.not_checked("thread_strength", "no planned torque given and the catalogue has no torque "
+                                               f"guidance for {port.thread} {port.seat} seat")
+            return
+        torque = guide.max_nm
+        ctx.assume("thread strength: no planned torque: the top of the recommended range is used")
+    if port.material is None:
+        ctx.assume("thread strength: head material not given: aluminium (the weaker) is assumed")
+    if options.lubrication is None:
+        ctx.assume("thread strength: lubrication not given: the nut factor for 'not stated', 0.20 "
+                   "(Shigley table 8-15), is used")
+    if port.peak_pressure_bar is None:
+        ctx.assume("thread strength: peak_pressure not given: the gas load is left out")
+    diameter, pitch = size
+    limits = port_thread_limits(diameter, pitch)
+    gasket, depth = ctx.gasket.bounds(), ctx.port_depth.bounds()
+    engaged = engaged_length_mm(reach_min_mm=plug.reach.nominal - plug.reach.minus, standoff_min_mm=gasket.min,
+                                standoff_max_mm=gasket.max, port_depth_min_mm=depth.min,
+                                allowances=EngagementAllowances.common_practice(pitch))
+    result = thread_strength(
+        torque_nm=torque, lubrication=options.lubrication, seat=port.seat, nominal_diameter_mm=diameter,
+        pitch_mm=pitch, external_major_min_mm=limits.external_major_min_mm,
+        internal_pitch_max_mm=limits.internal_pitch_max_mm, engaged_length_mm=engaged,
+        shear_strength_mpa=HEAD_MATERIAL_SHEAR_STRENGTH[material].shear_strength_mpa,
+        peak_pressure_bar=port.peak_pressure_bar)
+    values = {"torque": (result.torque_nm, TORQUE), "nut_factor": (result.nut_factor, "ratio"),
+              "preload": (result.preload_n, "force"), "gas_load": (result.gas_load_n, "force"),
+              "load": (result.preload_n + result.gas_load_n, "force"),
+              "engaged_length": (result.engaged_length_mm, LENGTH), "shear_area": (result.shear_area_mm2, "area"),
+              "shear_strength": (result.shear_strength_mpa, "stress"),
+              "strip_strength": (result.strip_strength_n, "force"),
+              "safety_factor": (result.safety_factor, "ratio"),
+              "min_safety_factor": (result.min_safety_factor, "ratio")}
+    ctx.analysis["thread_strength"] = values
+    if result.at_risk:
+        ctx.add("THREAD_STRIP_RISK", "thread_strength", "warn",
+                "The head's thread is estimated to hold {strip_strength} over {engaged_length} of engaged "
+                "thread (worst case) against {load} ({preload} preload at {torque} plus {gas_load} gas "
+                "load): a safety factor of {safety_factor}, below {min_safety_factor}. It may strip: "
+                "prefer a plug whose reach fills the port, a torque at the low end of the guidance, or a "
+                "thread insert. This is guidance: the engine maker's data comes first.", **values)
+
+
+def check_gap_voltage(ctx: FitContext) -> None:
+    """Does the ignition have voltage to spare for this gap? Breakdown estimate from the
+    charge density at the spark (model and sources: `spark.py`)."""
+    plug, port = ctx.plug, ctx.port
+    gap = ctx.options.gap if ctx.options.gap is not None else plug.gap
+    missing = [text for value, text in ((gap, "a gap (the plug's or the gap option)"),
+                                        (port.compression_ratio, "the head's compression_ratio"),
+                                        (port.ignition_voltage_kv, "the head's ignition_voltage"))
+               if value is None]
+    if missing:
+        ctx.not_checked("gap_voltage", " and ".join(missing) + " not given")
+        return
+    pressure, temperature = port.intake_pressure_bar, port.intake_temperature_k
+    if pressure is None:
+        pressure = STANDARD_INTAKE_PRESSURE_BAR
+        ctx.assume("gap voltage: intake_pressure not given: 1.01325 bar, unboosted sea level (ISO 2533)")
+    if temperature is None:
+        temperature = STANDARD_INTAKE_TEMPERATURE_K
+        ctx.assume("gap voltage: intake_temperature not given: 15 °C (ISO 2533 sea level)")
+    if port.spark_advance_deg is None or port.stroke_mm is None or port.rod_length_mm is None:
+        ctx.assume("gap voltage: no spark timing and crank geometry: the charge is taken at top dead "
+                   "centre, the densest and most demanding moment")
+    estimate = estimate_spark(gap_mm=gap, available_kv=port.ignition_voltage_kv,
+                              compression_ratio=port.compression_ratio, intake_pressure_bar=pressure,
+                              intake_temperature_k=temperature, spark_advance_deg=port.spark_advance_deg,
+                              stroke_mm=port.stroke_mm, rod_length_mm=port.rod_length_mm)
+    values = {"gap": (gap, LENGTH), "density_ratio": (estimate.density_ratio, "ratio"),
+              "equivalent_pressure": (estimate.equivalent_pressure_bar, "pressure"),
+              "demand": (estimate.demand_kv, "voltage"), "available": (estimate.available_kv, "voltage"),
+              "reserve": (estimate.available_kv - estimate.usable_kv, "voltage"),
+              "usable": (estimate.usable_kv, "voltage"), "largest_gap": (estimate.largest_gap_mm, LENGTH)}
+    ctx.analysis["gap_voltage"] = values
+    if estimate.short_of_reserve:
+        ctx.add("GAP_VOLTAGE_MARGIN", "gap_voltage", "warn",
+                "A {gap} gap is estimated to need {demand} to spark in the compressed charge, more than "
+                "the {usable} left when {reserve} of the ignition's {available} is kept in reserve: "
+                "expect misfires as the electrodes wear. A gap up to about {largest_gap} keeps the "
+                "reserve. This is an estimate for comparing choices, not a substitute for the engine "
+                "maker's gap specification.", **values)
+
+
+def check_heat_range(ctx: FitContext) -> None:
+    """Is the plug's heat range inside the head's band? Only on the same named scale:
+    scales are not mapped onto each other."""
+    band, rating = ctx.port.heat_range_band, ctx.plug.heat_range
+    if band is None or rating is None:
+        missing = [text for value, text in ((band, "the head's heat_range_band"), (rating, "the plug's heat_range"))
+                   if value is None]
+        ctx.not_checked("heat_range", " and ".join(missing) + " not given")
+        return
+    plug_scale, band_scale = _scale_name(rating.scale), _scale_name(band.scale)
+    if plug_scale.casefold() != band_scale.casefold():
+        ctx.not_checked("heat_range", f"the plug's heat range is on the '{plug_scale}' scale and the head's "
+                                      f"band on the '{band_scale}' scale; different scales are not compared")
+        return
+    values = {"heat_range": (rating.value, "ratio"), "band_min": (band.min, "ratio"),
+              "band_max": (band.max, "ratio")}
+    ctx.analysis["heat_range"] = values
+    below, above = band.min - rating.value, rating.value - band.max
+    if below > 0.0 or above > 0.0:
+        side = "below" if below > 0.0 else "above"
+        ctx.add("HEAT_RANGE_OUT_OF_BAND", "heat_range", "warn",
+                f"The plug's heat range {{heat_range}} lies {{distance}} {side} the head's band of "
+                f"{{band_min}} to {{band_max}} on the '{band_scale}' scale: outside its band a plug runs too "
+                "hot (risking pre-ignition) or too cold (fouling), depending on which way the scale counts.",
+                **values, distance=(max(below, above), "ratio"))
+
+
+def _scale_name(text: str) -> str:
+    # Scale names are the client's text: trimmed, and without braces, which the
+    # serialiser reads as placeholders.
+    return text.strip().replace("{", "(").replace("}", ")")
+
+
+def check_boot(ctx: FitContext) -> None:
+    """Does the coil or lead boot engage the terminal? The terminal top sits at
+    terminal_height + s from the seat face and must lie in the head's boot_range."""
+    plug, boot = ctx.plug, ctx.port.boot_range
+    if plug.terminal_height is None or boot is None or ctx.gasket is None:
+        missing = [text for value, text in ((plug.terminal_height, "the plug's terminal_height"),
+                                            (boot, "the head's boot_range"),
+                                            (ctx.gasket, "the plug's gasket_thickness")) if value is None]
+        ctx.not_checked("boot", " and ".join(missing) + " not given")
+        return
+    top = (Stack.of(plug.terminal_height) + ctx.gasket).bounds()
+    lowest, highest = ctx.low(top), ctx.high(top)
+    values = {"terminal_top": (top.nominal, LENGTH), "terminal_top_min": (lowest, LENGTH),
+              "terminal_top_max": (highest, LENGTH), "boot_min": (boot.min, LENGTH),
+              "boot_max": (boot.max, LENGTH)}
+    ctx.analysis["boot"] = values
+    short, tall = boot.min - lowest, highest - boot.max
+    if short > EPSILON_MM and short >= tall:
+        ctx.add("BOOT_ENGAGEMENT", "boot", "warn",
+                "The terminal top sits {terminal_top_min} from the seat face at its lowest (worst case), "
+                "{distance} short of the {boot_min} to {boot_max} where the head's coil or lead boot "
+                "engages: the boot may not grip the terminal, and the spark can track or misfire.",
+                **values, distance=(short, LENGTH))
+    elif tall > EPSILON_MM:
+        ctx.add("BOOT_ENGAGEMENT", "boot", "warn",
+                "The terminal top reaches {terminal_top_max} from the seat face at its highest (worst "
+                "case), {distance} beyond the {boot_min} to {boot_max} where the head's coil or lead boot "
+                "engages: the boot may bottom on the terminal and not seat or seal.",
+                **values, distance=(tall, LENGTH))
+
+
 Check = Callable[[FitContext], None]
 
 # Fit first (thread, seat), then geometry, then tooling and electrics, then torque.
@@ -223,6 +395,10 @@ CHECKS: tuple[Check, ...] = (
     check_hex,
     check_resistor,
     check_torque,
+    check_thread_strength,
+    check_gap_voltage,
+    check_heat_range,
+    check_boot,
 )
 
 # The names clients use in `check` and in the `require` option: the function name

@@ -14,6 +14,9 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import lru_cache
+
+from .threads import ThreadLimits, limits_6g_6H
 
 # tan 30°: the flank term of a 60° thread in the shear-area formulas (ISO 68-1 profile).
 TAN_30 = 0.57735
@@ -50,6 +53,12 @@ INCOMPLETE_THREAD_PITCHES = 1.0  # the plug's chamfered last thread carries no l
 # of 1.5–2 on ultimate strength are usual for well-known loads; we take 2 because a hot
 # aluminium head is weaker than its room-temperature data and the gas load cycles.
 MIN_STRIP_SAFETY_FACTOR = 2.0
+
+
+@lru_cache(maxsize=64)
+def port_thread_limits(nominal_diameter_mm: float, pitch_mm: float) -> ThreadLimits:
+    """ISO 965-1 6g/6H limits, cached: a build list repeats a handful of sizes."""
+    return limits_6g_6H(nominal_diameter_mm, pitch_mm)
 
 
 @dataclass(frozen=True, slots=True)

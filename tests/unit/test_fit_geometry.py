@@ -166,6 +166,7 @@ def test_every_default_applied_is_listed_in_the_assumptions(check):
 
 
 def test_options_given_by_the_client_are_not_listed_as_assumptions(check):
-    options = {"min_clearance": 1.0, "flush_tolerance": 0.3, "dynamic_allowance": 0.2}
-    head = dict(FLUSH_HEAD, material="aluminium")
+    options = {"min_clearance": 1.0, "flush_tolerance": 0.3, "dynamic_allowance": 0.2,
+               "torque": 28, "lubrication": "dry"}  # torque, lubrication: thread_strength's inputs
+    head = dict(FLUSH_HEAD, material="aluminium", peak_pressure=60)
     assert check(FLUSH_PLUG, head, options).assumptions == []

@@ -1,0 +1,208 @@
+"""The four engineering-depth checks on hand-worked cases, through the schemas and engine.
+
+Sources of the numbers (graded as in /work/shared/product/reference-values.md):
+- Shear area: FED-STD-H28/2B / Machinery's Handbook with ISO 965-1 6g/6H limits for
+  M14x1.25 (d min 13.760, D2 max 13.368): 29.4389 mm² per mm of engagement (derived).
+- T = K·F·d: Shigley eq. 8-27; K from Shigley table 8-15 (dry/not stated 0.20,
+  anti-seize 0.12); conical-seat raise 1.365552 (derived in strength.py, common practice).
+- Shear strengths: aluminium 179 MPa (Mamlouk & Zaniewski, 356.0-T6 sand cast, published),
+  cast iron 276 MPa (Shigley table A-24, from memory).
+- Torque guidance M14x1.25 flat in aluminium 25–30 N·m (seed catalogue, common practice).
+- Breakdown: Kuffel, Zaengl & Kuffel, Vb = 6.72·√(pd) + 24.36·pd kV (from memory); air
+  R = 287.05 J/(kg·K) (ISO 2533, from memory); ISO 2533 sea level 101.325 kPa, 15 °C.
+- Slider-crank: Heywood eq. 2.6 (from memory).
+Heat-range scales and boot ranges are invented demo values.
+"""
+from __future__ import annotations
+
+import pytest
+
+M14_FLAT_PLUG = {"thread": "M14x1.25", "seat": "flat", "reach": 12.7, "gasket_thickness": 1.5}
+M14_FLAT_HEAD = {"thread": "M14x1.25", "seat": "flat", "port_depth": 11.2, "material": "aluminium",
+                 "peak_pressure": 100}
+
+
+def finding(result, code):
+    return next((f for f in result.findings if f.code == code), None)
+
+
+def not_checked(result, check):
+    return next((f for f in result.findings if f.code == "NOT_CHECKED" and f.check == check), None)
+
+
+def analysed(result, check, name):
+    return result.analysis[check][name][0]
+
+
+# --- thread_strength -------------------------------------------------------------------
+
+def test_a_half_inch_plug_at_the_top_of_the_torque_range_holds_in_aluminium(check):
+    result = check(M14_FLAT_PLUG, M14_FLAT_HEAD, {"lubrication": "dry"})
+    # hand-worked: torque 30 N·m (top of 25–30); preload 30/(0.20·0.014) = 10 714.3 N; gas
+    # 100 bar × π·14²/4 = 1 539.4 N; engaged min(11.2, 11.2) − max(2.5 − 1.5, 1.25) − 1.25
+    # = 8.7 mm; area 29.4389 × 8.7 = 256.12 mm²; strength × 179 MPa = 45 845 N; SF 3.741
+    assert analysed(result, "thread_strength", "torque") == pytest.approx(30.0)
+    assert analysed(result, "thread_strength", "preload") == pytest.approx(10714.3, abs=0.1)
+    assert analysed(result, "thread_strength", "gas_load") == pytest.approx(1539.4, abs=0.1)
+    assert analysed(result, "thread_strength", "engaged_length") == pytest.approx(8.7)
+    assert analysed(result, "thread_strength", "shear_area") == pytest.approx(256.12, abs=0.01)
+    assert analysed(result, "thread_strength", "strip_strength") == pytest.approx(45845, abs=1)
+    assert analysed(result, "thread_strength", "safety_factor") == pytest.approx(3.741, abs=0.001)
+    assert finding(result, "THREAD_STRIP_RISK") is None
+
+
+def test_a_short_plug_deep_in_a_port_on_anti_seize_risks_stripping_the_head(check):
+    plug = dict(M14_FLAT_PLUG, reach=9.5)
+    head = dict(M14_FLAT_HEAD, port_depth=17.5)
+    result = check(plug, head, {"torque": 30, "lubrication": "anti_seize"})
+    # hand-worked: engaged 8.0 − 1.25 − 1.25 = 5.5 mm; area 161.91 mm²; strength 28 983 N;
+    # preload 30/(0.12·0.014) = 17 857.1 N + gas 1 539.4 N; SF 1.494 < 2 (common practice)
+    risk = finding(result, "THREAD_STRIP_RISK")
+    assert risk is not None and risk.severity == "warn"
+    assert risk.values["safety_factor"][0] == pytest.approx(1.494, abs=0.001)
+    assert risk.values["engaged_length"][0] == pytest.approx(5.5)
+    assert risk.values["min_safety_factor"][0] == 2.0
+    assert "{" not in risk.message.format_map({k: "" for k in risk.values})  # every placeholder has a value
+
+
+def test_a_conical_plug_in_cast_iron_counts_the_wedge_of_its_seat(check):
+    plug = {"thread": "M14x1.25", "seat": "conical", "reach": 11.7}
+    head = {"thread": "M14x1.25", "seat": "conical", "design_reach": 11.7, "material": "cast_iron",
+            "peak_pressure": 80}
+    result = check(plug, head, {"torque": 20, "lubrication": "dry"})
+    # hand-worked: K = 0.20 × 1.365552 = 0.273110; preload 20/(0.273110·0.014) = 5 230.8 N;
+    # gas 80 bar × π·14²/4 = 1 231.5 N; engaged 11.7 − 2.5 − 1.25 = 7.95 mm; area 234.04 mm²;
+    # strength × 276 MPa = 64 595 N; SF 9.996
+    assert analysed(result, "thread_strength", "nut_factor") == pytest.approx(0.273110, abs=1e-6)
+    assert analysed(result, "thread_strength", "preload") == pytest.approx(5230.8, abs=0.1)
+    assert analysed(result, "thread_strength", "safety_factor") == pytest.approx(9.996, abs=0.001)
+
+
+def test_thread_strength_lists_the_defaults_it_applied(check):
+    head = {key: value for key, value in M14_FLAT_HEAD.items() if key not in ("material", "peak_pressure")}
+    assumptions = " | ".join(check(M14_FLAT_PLUG, head).assumptions)
+    for default in ("no planned torque", "aluminium (the weaker)", "lubrication not given", "gas load is left out"):
+        assert default in assumptions
+
+
+def test_without_a_reach_the_thread_strength_is_not_checked_and_a_requirement_fails(check):
+    plug = {key: value for key, value in M14_FLAT_PLUG.items() if key != "reach"}
+    result = check(plug, M14_FLAT_HEAD, {"require": ["thread_strength"]})
+    skipped = not_checked(result, "thread_strength")
+    assert skipped.severity == "fail" and "reach" in skipped.message
+    assert result.verdict == "fail"
+
+
+# --- gap_voltage -----------------------------------------------------------------------
+
+ENGINE_HEAD = dict(M14_FLAT_HEAD, compression_ratio=10, ignition_voltage=30)
+
+
+def test_a_wide_gap_at_compression_ratio_ten_leaves_too_little_reserve(check):
+    result = check(dict(M14_FLAT_PLUG, gap=0.8), ENGINE_HEAD)
+    # hand-worked: ρ = 101 325/(287.05 × 288.15) = 1.22501 kg/m³, ×10 at TDC; as pressure at
+    # 293 K 10.3030 bar; pd = 0.82424 bar·cm; Vb = 6.72 × 0.90788 + 24.36 × 0.82424 = 26.18 kV
+    # > 24 kV usable (30 kV less the 20 % reserve, common practice); widest gap 0.7249 mm
+    margin = finding(result, "GAP_VOLTAGE_MARGIN")
+    assert margin is not None and margin.severity == "warn"
+    assert margin.values["demand"][0] == pytest.approx(26.18, abs=0.01)
+    assert margin.values["usable"][0] == pytest.approx(24.0)
+    assert margin.values["largest_gap"][0] == pytest.approx(0.7249, abs=0.0005)
+    assert "not a substitute for the engine maker's gap specification" in margin.message
+    assert "top dead centre" in " ".join(result.assumptions)
+
+
+def test_the_gap_option_overrides_the_plugs_gap(check):
+    result = check(dict(M14_FLAT_PLUG, gap=0.8), ENGINE_HEAD, {"gap": 0.6})
+    # hand-worked: pd = 10.3030 × 0.06 = 0.61818 bar·cm; Vb = 5.2835 + 15.0589 = 20.34 kV < 24 kV
+    assert analysed(result, "gap_voltage", "demand") == pytest.approx(20.34, abs=0.01)
+    assert finding(result, "GAP_VOLTAGE_MARGIN") is None
+
+
+def test_boost_raises_the_demand_past_the_reserve(check):
+    head = dict(ENGINE_HEAD, compression_ratio=9, ignition_voltage=35, intake_pressure=2.0,
+                intake_temperature=40)
+    result = check(dict(M14_FLAT_PLUG, gap=0.6), head)
+    # hand-worked: ρ = 2e5/(287.05 × 313.15) = 2.22494, ×9; at 293 K 16.842 bar; pd = 1.01052;
+    # Vb = 6.7553 + 24.6163 = 31.37 kV > 28 kV usable; widest gap 0.889 29/16.842 cm = 0.528 mm
+    assert analysed(result, "gap_voltage", "equivalent_pressure") == pytest.approx(16.842, abs=0.001)
+    assert analysed(result, "gap_voltage", "demand") == pytest.approx(31.37, abs=0.01)
+    assert analysed(result, "gap_voltage", "largest_gap") == pytest.approx(0.528, abs=0.001)
+    assert finding(result, "GAP_VOLTAGE_MARGIN") is not None
+
+
+def test_spark_timing_and_crank_geometry_replace_the_top_dead_centre_density(check):
+    head = dict(ENGINE_HEAD, compression_ratio=8, spark_advance=30, stroke=86, rod_length=150.5)
+    result = check(dict(M14_FLAT_PLUG, gap=0.6), head)
+    # hand-worked (Heywood eq. 2.6): R = 3.5, V/Vc = 1 + 3.5 × (4.5 − 0.866025 − 3.464102)
+    # = 1.594556; density ratio 8 / 1.594556 = 5.01707
+    assert analysed(result, "gap_voltage", "density_ratio") == pytest.approx(5.01707, abs=1e-5)
+    assert "top dead centre" not in " ".join(result.assumptions)
+
+
+def test_without_a_compression_ratio_the_gap_voltage_is_not_checked(check):
+    result = check(dict(M14_FLAT_PLUG, gap=0.8), dict(M14_FLAT_HEAD, ignition_voltage=30))
+    assert "compression_ratio" in not_checked(result, "gap_voltage").message
+    assert "gap_voltage" not in result.analysis
+
+
+# --- heat_range ------------------------------------------------------------------------
+
+BAND_HEAD = dict(M14_FLAT_HEAD, heat_range_band={"scale": "demo-scale", "min": 5, "max": 7})
+
+
+def test_a_plug_above_the_heads_band_is_out_of_band_by_the_difference(check):
+    result = check(dict(M14_FLAT_PLUG, heat_range={"scale": "demo-scale", "value": 8}), BAND_HEAD)
+    out = finding(result, "HEAT_RANGE_OUT_OF_BAND")
+    assert out is not None and out.severity == "warn"
+    assert out.values["distance"][0] == pytest.approx(1.0)  # hand-worked: 8 − 7
+    assert "above" in out.message
+
+
+def test_a_plug_inside_the_band_on_the_same_scale_in_other_letter_case_passes(check):
+    result = check(dict(M14_FLAT_PLUG, heat_range={"scale": "Demo-Scale", "value": 6}), BAND_HEAD)
+    assert finding(result, "HEAT_RANGE_OUT_OF_BAND") is None
+    assert analysed(result, "heat_range", "heat_range") == 6
+
+
+def test_a_heat_range_on_another_scale_is_not_compared(check):
+    result = check(dict(M14_FLAT_PLUG, heat_range={"scale": "other-scale", "value": 6}), BAND_HEAD)
+    skipped = not_checked(result, "heat_range")
+    assert "'other-scale'" in skipped.message and "'demo-scale'" in skipped.message
+    assert finding(result, "HEAT_RANGE_OUT_OF_BAND") is None
+
+
+def test_a_plug_without_a_heat_range_is_not_checked(check):
+    assert "the plug's heat_range" in not_checked(check(M14_FLAT_PLUG, BAND_HEAD), "heat_range").message
+
+
+# --- boot ------------------------------------------------------------------------------
+
+def test_a_short_terminal_below_the_boot_range_warns_with_the_distance(check):
+    plug = dict(M14_FLAT_PLUG, terminal_height={"value": 50.0, "tol": 0.5})
+    head = dict(M14_FLAT_HEAD, boot_range={"min": 52.5, "max": 60})
+    result = check(plug, head)
+    # hand-worked: terminal top = 50.0 + 1.5 = 51.5 mm, lowest 51.0 (worst case); 52.5 − 51.0 = 1.5 mm
+    boot = finding(result, "BOOT_ENGAGEMENT")
+    assert boot is not None and boot.severity == "warn"
+    assert boot.values["distance"][0] == pytest.approx(1.5)
+    assert analysed(result, "boot", "terminal_top") == pytest.approx(51.5)
+
+
+def test_a_tall_terminal_above_the_boot_range_warns_with_the_distance(check):
+    plug = dict(M14_FLAT_PLUG, terminal_height=58.0)
+    result = check(plug, dict(M14_FLAT_HEAD, boot_range={"min": 50, "max": 59}))
+    # hand-worked: 58.0 + 1.5 = 59.5 mm, 0.5 mm beyond 59
+    assert finding(result, "BOOT_ENGAGEMENT").values["distance"][0] == pytest.approx(0.5)
+
+
+def test_a_terminal_inside_the_boot_range_passes(check):
+    plug = dict(M14_FLAT_PLUG, terminal_height=50.0)
+    result = check(plug, dict(M14_FLAT_HEAD, boot_range={"min": 50, "max": 55}))
+    assert finding(result, "BOOT_ENGAGEMENT") is None
+    assert not_checked(result, "boot") is None
+
+
+def test_a_head_without_a_boot_range_is_not_checked(check):
+    result = check(dict(M14_FLAT_PLUG, terminal_height=50.0), M14_FLAT_HEAD)
+    assert "boot_range" in not_checked(result, "boot").message
