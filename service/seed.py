@@ -76,8 +76,9 @@ def seed_standard_sizes() -> CatalogSummary:
                           len(catalog.hexes), len(catalog.torques))
 
 
-def demo_files(directory: Path = DEMO_DIRECTORY) -> list[tuple[str, Path]]:
+def demo_files(directory: Path | None = None) -> list[tuple[str, Path]]:
     """(resource, path) of every demo file present, plugs before heads."""
+    directory = directory or DEMO_DIRECTORY
     found = []
     for resource in ("plugs", "heads"):
         for extension in DEMO_READERS:
@@ -87,7 +88,7 @@ def demo_files(directory: Path = DEMO_DIRECTORY) -> list[tuple[str, Path]]:
     return found
 
 
-def seed_demo(session: Session, directory: Path = DEMO_DIRECTORY) -> DemoReport:
+def seed_demo(session: Session, directory: Path | None = None) -> DemoReport:
     """Upsert the demo shop; the caller commits (nothing is written if any line fails)."""
     report = DemoReport()
     schemas: dict[str, Schema] = {"plugs": StoredPlugSchema(), "heads": StoredHeadSchema()}

@@ -1,0 +1,77 @@
+"""Alembic migrations on SQLite: empty → head → empty, and the models match head."""
+from __future__ import annotations
+
+from alembic.autogenerate import compare_metadata
+from alembic.migration import MigrationContext
+from alembic.script import ScriptDirectory
+from sqlalchemy import inspect, text
+
+from service import db
+from service.models import Base
+
+
+def head_revision() -> str:
+    return ScriptDirectory.from_config(db.alembic_config("sqlite://")).get_current_head()
+
+
+def tables(url: str) -> set[str]:
+    engine = db.make_engine(url)
+    try:
+        return set(inspect(engine).get_table_names())
+    finally:
+        engine.dispose()
+
+
+def test_upgrade_from_empty_to_head_then_downgrade_back_to_empty(tmp_path):
+    url = f"sqlite:///{tmp_path / 'm.db'}"
+    assert db.current_revision(url) is None
+    db.upgrade(url)
+    assert db.current_revision(url) == head_revision()
+    assert {"plugs", "heads", "api_keys"} <= tables(url)
+    db.downgrade(url, "base")
+    assert db.current_revision(url) is None
+    assert tables(url) <= {"alembic_version"}
+    db.upgrade(url)  # and up again: the downgrade left nothing in the way
+    assert db.current_revision(url) == head_revision()
+
+
+def test_the_models_match_the_newest_migration(database_url):
+    engine = db.make_engine(database_url)
+    try:
+        with engine.connect() as connection:
+            context = MigrationContext.configure(connection, opts={"compare_type": True})
+            assert compare_metadata(context, Base.metadata) == []
+    finally:
+        engine.dispose()
+
+
+def test_plugs_are_indexed_on_thread_and_seat_for_the_fitting_search(database_url):
+    engine = db.make_engine(database_url)
+    try:
+        indexes = {index["name"]: index["column_names"] for index in inspect(engine).get_indexes("plugs")}
+    finally:
+        engine.dispose()
+    assert indexes["ix_plugs_thread_seat"] == ["thread", "seat"]
+
+
+def test_sqlite_connections_use_wal_and_enforce_foreign_keys(database_url):
+    engine = db.make_engine(database_url)
+    try:
+        with engine.connect() as connection:
+            assert connection.execute(text("PRAGMA journal_mode")).scalar() == "wal"
+            assert connection.execute(text("PRAGMA foreign_keys")).scalar() == 1
+    finally:
+        engine.dispose()
+
+
+def test_plugfit_db_upgrade_and_downgrade_work_from_the_command_line(tmp_path):
+    from click.testing import CliRunner
+
+    from service.cli import main
+
+    url = f"sqlite:///{tmp_path / 'cli.db'}"
+    env = {"PLUGFIT_DATABASE_URL": url}
+    assert CliRunner().invoke(main, ["db", "upgrade"], env=env).exit_code == 0
+    assert CliRunner().invoke(main, ["db", "current"], env=env).stdout.strip() == head_revision()
+    assert CliRunner().invoke(main, ["db", "downgrade", "base"], env=env).exit_code == 0
+    assert CliRunner().invoke(main, ["db", "current"], env=env).stdout.strip() == "base"
