@@ -16,6 +16,7 @@ BLUEPRINT_MODULES: tuple[str, ...] = (
     "service.api.plugs",
     "service.api.heads",
     "service.api.fit_checks",
+    "service.api.diagrams",
 )
 
 
