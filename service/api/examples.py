@@ -48,18 +48,22 @@ FIT_CHECK_BY_REFERENCE = {
 FIT_RESULT = {
     "verdict": "pass",
     "thread": "M14x1.25",
-    "findings": [],
+    "findings": [
+        {"code": "NOT_CHECKED", "check": "valve", "severity": "info",
+         "message": "The valve check was not made: the head gives neither valve_clearance nor seat_to_valve.",
+         "values": {}},
+    ],
     "geometry": {
         "thread_protrusion": {"nominal": 0.0, "min": 0.0, "max": 0.0, "rss_min": 0.0, "rss_max": 0.0, "unit": "mm"},
         "thread_recess": {"nominal": 0.0, "min": 0.0, "max": 0.0, "rss_min": 0.0, "rss_max": 0.0, "unit": "mm"},
         "tip_position": {"nominal": 21.5, "min": 21.5, "max": 21.5, "rss_min": 21.5, "rss_max": 21.5, "unit": "mm"},
         "piston_margin": {"nominal": 4.0, "min": 4.0, "max": 4.0, "rss_min": 4.0, "rss_max": 4.0, "unit": "mm"},
     },
-    "analysis": {},
-    "torque": None,
-    "assumptions": ["min_clearance 1.5 mm (default)"],
-    "cautions": ["Torque, clearance and gap figures are guidance: the engine maker's service data, "
+    "analysis": {"thread_strength": {"safety_factor": {"value": 7.3774, "unit": ""}}},
+    "torque": {"min": 25.0, "max": 30.0, "unit": "N*m", "turn_angle_deg": 180.0, "source": "common practice"},
+    "assumptions": ["min_clearance not given: 1.5 mm used (common practice (about 0.060 in), from memory)"],
+    "cautions": ["Torque, clearance and gap values are guidance: the engine maker's service data, "
                  "local regulations and licensed practice come first."],
-    "engine_version": "1",
-    "catalog_version": "0123456789ab",
+    "engine_version": "1.0.0",
+    "catalog_version": "fbcb0fa264fd",
 }

@@ -87,3 +87,17 @@ def test_lists_document_pagination_with_at_most_1000_per_page(spec):
     assert {"thread", "seat", "reach", "hex", "resistor", "page"} <= set(parameters)
     head_parameters = {p["name"] for p in spec["paths"]["/v1/heads"]["get"]["parameters"] if "name" in p}
     assert "q" in head_parameters
+
+
+def test_the_documented_examples_are_valid_requests_and_answers():
+    """The examples shown in the OpenAPI document load through the same schemas as real
+    requests, so the documentation cannot show a body the service would refuse."""
+    from schemas.results import FitResultSchema
+    from schemas.specs import FitCheckRequestSchema, StoredHeadSchema, StoredPlugSchema
+    from service.api import examples
+
+    StoredPlugSchema().load(examples.PLUG)
+    StoredHeadSchema().load(examples.HEAD)
+    FitCheckRequestSchema().load(examples.FIT_CHECK_INLINE)
+    FitCheckRequestSchema().load(examples.FIT_CHECK_BY_REFERENCE)
+    assert FitResultSchema().validate(examples.FIT_RESULT) == {}

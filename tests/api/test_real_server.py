@@ -1,0 +1,195 @@
+"""Against a real server process over HTTP: `plugfit serve` (gunicorn) on a free port
+with a temporary SQLite database.
+
+- a round trip with `requests`;
+- every `curl` example in README.md, run by curl itself, must answer the status written
+  under it (`# → 201`), so the README cannot rot;
+- the shared contract checker (`../shared/conformance/contract_check.py`).
+"""
+from __future__ import annotations
+
+import os
+import re
+import shlex
+import shutil
+import signal
+import socket
+import subprocess
+import sys
+import time
+from dataclasses import dataclass
+from pathlib import Path
+
+import pytest
+import requests
+
+from service import db
+
+REPO = Path(__file__).resolve().parents[2]
+README = REPO / "README.md"
+CONTRACT_CHECK = REPO.parent / "shared" / "conformance" / "contract_check.py"
+README_BASE_URL = "http://127.0.0.1:8000"
+
+pytestmark = pytest.mark.server
+
+
+def free_port() -> int:
+    with socket.socket() as probe:
+        probe.bind(("127.0.0.1", 0))
+        return probe.getsockname()[1]
+
+
+@dataclass
+class Server:
+    base_url: str
+    key: str
+    process: subprocess.Popen
+
+
+def plugfit(*args: str, env: dict[str, str]) -> subprocess.CompletedProcess:
+    return subprocess.run([sys.executable, "-m", "service.cli", *args], cwd=REPO, env=env,
+                          capture_output=True, text=True, timeout=120)
+
+
+@pytest.fixture(scope="module")
+def server(tmp_path_factory) -> Server:
+    directory = tmp_path_factory.mktemp("server")
+    env = {key: value for key, value in os.environ.items() if not key.startswith("PLUGFIT_")}
+    env["PLUGFIT_DATABASE_URL"] = f"sqlite:///{directory / 'plugfit.db'}"
+    upgraded = plugfit("db", "upgrade", env=env)
+    assert upgraded.returncode == 0, upgraded.stderr
+    created = plugfit("keys", "create", "real-server-test", env=env)
+    assert created.returncode == 0, created.stderr
+    key = created.stdout.strip()
+    port = free_port()
+    log = (directory / "server.log").open("w")
+    process = subprocess.Popen(
+        [sys.executable, "-m", "service.cli", "serve", "--host", "127.0.0.1", "--port", str(port),
+         "--workers", "2", "--threads", "2"],
+        cwd=REPO, env=env, stdout=log, stderr=subprocess.STDOUT, start_new_session=True)
+    base_url = f"http://127.0.0.1:{port}"
+    try:
+        deadline = time.monotonic() + 60
+        while True:
+            if process.poll() is not None:
+                pytest.fail(f"plugfit serve exited with {process.returncode}: "
+                            f"{(directory / 'server.log').read_text()[-2000:]}")
+            try:
+                if requests.get(base_url + "/v1/health", timeout=2).status_code == 200:
+                    break
+            except requests.ConnectionError:
+                pass
+            if time.monotonic() > deadline:
+                pytest.fail("plugfit serve did not answer /v1/health within 60 s")
+            time.sleep(0.2)
+        yield Server(base_url, key, process)
+    finally:
+        # Only the process group this fixture started.
+        if process.poll() is None:
+            os.killpg(process.pid, signal.SIGTERM)
+            try:
+                process.wait(timeout=20)
+            except subprocess.TimeoutExpired:
+                os.killpg(process.pid, signal.SIGKILL)
+                process.wait()
+        log.close()
+
+
+def test_a_real_server_stores_a_plug_and_checks_it_over_http(server):
+    auth = {"Authorization": f"Bearer {server.key}"}
+    plug = {"sku": "HTTP-1", "thread": "M14x1.25", "seat": "flat", "reach": 19.0, "gasket_thickness": 1.5,
+            "firing_end": 4.0}
+    created = requests.post(server.base_url + "/v1/plugs", json=plug, headers=auth, timeout=10)
+    assert created.status_code == 201
+    assert created.headers["Location"].endswith("/v1/plugs/HTTP-1")
+    head = {"thread": "M14x1.25", "seat": "flat", "port_depth": 17.5, "piston_clearance": 8.0}
+    checked = requests.post(server.base_url + "/v1/fit-checks", json={"plug": {"sku": "HTTP-1"}, "head": head},
+                            timeout=10)
+    assert checked.status_code == 200
+    # The contract's flush fit: piston margin (17.5 + 8.0) - (17.5 + 4.0) = 4.0 mm.
+    assert checked.json()["geometry"]["piston_margin"]["nominal"] == pytest.approx(4.0)
+    missing = requests.get(server.base_url + "/v1/plugs/HTTP-404", timeout=10)
+    assert missing.status_code == 404
+    assert missing.headers["Content-Type"].startswith("application/problem+json")
+    unauthorised = requests.delete(server.base_url + "/v1/plugs/HTTP-1", timeout=10)
+    assert unauthorised.status_code == 401
+    assert requests.delete(server.base_url + "/v1/plugs/HTTP-1", headers=auth, timeout=10).status_code == 204
+
+
+@dataclass
+class CurlExample:
+    command: str
+    expected_status: int
+    line: int
+
+
+def _complete(command: str) -> bool:
+    """A shell command is complete when no backslash continues it and its quotes close."""
+    if command.rstrip().endswith("\\"):
+        return False
+    try:
+        shlex.split(command)
+    except ValueError:
+        return False
+    return True
+
+
+def readme_curl_examples(text: str) -> list[CurlExample]:
+    """The `curl` commands of the ```sh blocks, each with the `# → NNN` line after it."""
+    examples: list[CurlExample] = []
+    for block in re.finditer(r"```sh\n(.*?)```", text, re.S):
+        first_line = text[: block.start()].count("\n") + 2
+        lines = block.group(1).splitlines()
+        index = 0
+        while index < len(lines):
+            if not lines[index].startswith("curl"):
+                index += 1
+                continue
+            start = index
+            while not _complete("\n".join(lines[start: index + 1])):
+                index += 1
+                assert index < len(lines), f"README.md line {first_line + start}: an unfinished curl command"
+            command = "\n".join(lines[start: index + 1])
+            following = lines[index + 1] if index + 1 < len(lines) else ""
+            match = re.match(r"#\s*(?:→|->)\s*(\d{3})\b", following)
+            assert match, f"README.md line {first_line + start}: a curl example without '# → <status>' under it"
+            examples.append(CurlExample(command, int(match.group(1)), first_line + start))
+            index += 1
+    return examples
+
+
+def test_the_readme_has_a_curl_example_for_every_endpoint_of_this_service():
+    commands = " ".join(example.command for example in readme_curl_examples(README.read_text()))
+    for path in ("/v1/health", "/v1/openapi.json", "/v1/standard-sizes", "/v1/plugs", "/v1/plugs/",
+                 "/v1/heads", "/v1/heads/", "/v1/fit-checks"):
+        assert README_BASE_URL + path in commands, path
+    for method in ("POST", "PUT", "DELETE"):
+        assert f"-X {method}" in commands
+
+
+@pytest.mark.skipif(shutil.which("curl") is None, reason="curl is not installed on this machine")
+def test_every_readme_curl_example_answers_the_status_it_shows(server):
+    examples = readme_curl_examples(README.read_text())
+    assert examples
+    env = {**os.environ, "PLUGFIT_KEY": server.key}
+    # curl as a shell function prints only the status, so each command runs as written.
+    wrapper = 'curl() { command curl "$@" --silent --show-error --output /dev/null --write-out "%{http_code}"; }\n'
+    for example in examples:
+        command = example.command.replace(README_BASE_URL, server.base_url)
+        completed = subprocess.run(["bash", "-c", wrapper + command], env=env, capture_output=True, text=True,
+                                   timeout=60)
+        assert completed.returncode == 0, f"README.md line {example.line}: {completed.stderr}"
+        status = int(completed.stdout.strip()[-3:])
+        assert status < 500, f"README.md line {example.line}: answered {status}"
+        assert status == example.expected_status, (
+            f"README.md line {example.line}: answered {status}, the README shows {example.expected_status}")
+
+
+@pytest.mark.xfail(strict=False, reason="the contract also covers /v1/fit-checks/batch, fitting-plugs, "
+                   "interchanges, imports and exports, which other issues build; passes once they exist")
+def test_the_running_service_conforms_to_the_shared_contract_check(server):
+    if not CONTRACT_CHECK.is_file():
+        pytest.skip(f"{CONTRACT_CHECK} is absent (the shared conformance checker sits beside the repository)")
+    completed = subprocess.run([sys.executable, str(CONTRACT_CHECK), server.base_url], capture_output=True,
+                               text=True, timeout=120)
+    assert completed.returncode == 0, completed.stdout + completed.stderr
