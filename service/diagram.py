@@ -16,9 +16,11 @@ derivation, so the drawing and the check never disagree.
 from __future__ import annotations
 
 import math
+import textwrap
 from dataclasses import dataclass
 from xml.sax.saxutils import escape, quoteattr
 
+from schemas.results import result_document
 from service.fitment.catalog import Catalog
 from service.fitment.context import FitContext
 from service.fitment.geometry import derive
@@ -46,6 +48,7 @@ CHECK_ANCHORS = {
 }
 
 WIDTH_PX = 920
+LEGEND_WRAP_CHARS = 135  # about 800 px of 10.5 px sans-serif
 DRAWING_TOP_PX = 70.0
 MAX_DRAWING_HEIGHT_PX = 560.0
 MAX_HALF_WIDTH_PX = 215.0
@@ -191,8 +194,9 @@ def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str
 
     drawing_bottom = y(bottom_mm)
     findings = list(result.findings)
-    legend_rows = _legend_rows(findings)
-    height = drawing_bottom + 60.0 + 18.0 * len(legend_rows) + 50.0
+    legend_rows = _legend_rows(findings, [f["message"] for f in result_document(result, units)["findings"]])
+    legend_height = sum(20.0 + 13.0 * len(lines) for _, _, lines in legend_rows)
+    height = drawing_bottom + 60.0 + legend_height + 50.0
 
     svg = _Svg()
     svg.raw(
@@ -234,6 +238,10 @@ def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str
         for polygon, side in ((left, "short"), (right, "long")):
             svg.element("polygon", points=" ".join(f"{x(px):.2f},{y(py):.2f}" for px, py in polygon),
                         fill="url(#hatch-head)", stroke="#222", stroke_width=1.4, data_part=f"head-{side}-side")
+        # the port's own thread on the bore walls: visible wherever the plug leaves it bare
+        thread_top = 1.0 / math.tan(math.radians(CONICAL_SEAT_HALF_ANGLE_DEG)) if port.seat == "conical" else 0.0
+        _wall_teeth(svg, x(-radius), y(thread_top), y(depth), -1, 1.25 * scale)
+        _wall_teeth(svg, x(radius), y(thread_top), y(depth_long), 1, 1.25 * scale)
         # the chamber surface (roof), drawn across the bore too
         svg.element("line", x1=x(-radius), y1=y(depth), x2=x(radius), y2=y(depth_long), stroke="#555",
                     stroke_width=1.0, stroke_dasharray="10 3 2 3",
@@ -354,11 +362,14 @@ def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str
     # --- legend ---
     ly = drawing_bottom + 52.0
     svg.element("text", "Findings", x=40, y=ly, font_size=13, font_weight="bold", fill="#111")
-    for severity, text in legend_rows:
-        ly += 18.0
+    for severity, heading, lines in legend_rows:
+        ly += 20.0
         if severity in SEVERITY_STYLE:
             _symbol(svg, severity, 50.0, ly - 4.0, size=6.0)
-        svg.element("text", text, x=66, y=ly, font_size=11.5, fill="#111")
+        svg.element("text", heading, x=66, y=ly, font_size=11.5, fill="#111", font_weight="bold")
+        for line in lines:
+            ly += 13.0
+            svg.element("text", line, x=66, y=ly, font_size=10.5, fill="#333")
     svg.element("text", CAUTION, x=20, y=height - 16, font_size=10.5, fill="#333", font_style="italic")
     svg.raw("</svg>")
     return '<?xml version="1.0" encoding="UTF-8"?>\n' + "\n".join(svg.parts) + "\n"
@@ -390,6 +401,19 @@ def _scale_note(scale: float, units: str) -> str:
 def _feature_tick(svg: _Svg, name: str, axial: float, x0: float, y0: float, x1: float) -> None:
     svg.element("line", x1=x0, y1=y0, x2=x1, y2=y0, stroke="#000", stroke_width=1.4,
                 data_feature=name, data_axial_mm=f"{axial:.6f}")
+
+
+def _wall_teeth(svg: _Svg, edge: float, top: float, bottom: float, outward: int, pitch_px: float) -> None:
+    """The port's internal thread: teeth cut into the head material beside the bore."""
+    if bottom - top < pitch_px or pitch_px <= 0:
+        return
+    depth = min(pitch_px * 0.6, 6.0)
+    points, yy, cut = [f"{edge:.2f},{top:.2f}"], top, True
+    while yy + pitch_px / 2 <= bottom:
+        yy += pitch_px / 2
+        points.append(f"{edge + outward * depth if cut else edge:.2f},{yy:.2f}")
+        cut = not cut
+    svg.element("polyline", points=" ".join(points), fill="none", stroke="#555", stroke_width=0.8)
 
 
 def _thread_teeth(svg: _Svg, left: float, right: float, top: float, bottom: float, pitch_px: float) -> None:
@@ -439,8 +463,9 @@ def _plug_section(svg: _Svg, plug: PlugSpec, layout: AxialLayout, radius: float,
         _thread_teeth(svg, x(-radius), x(radius), y(thread_start), y(end), 1.25 * scale)
 
     gap = plug.gap if plug.gap else 0.7
-    ground = 1.3
-    if tip is not None and tip > shell_end + ground + gap:
+    # a ground electrode about 1.3 mm thick, thinner when the firing end leaves less room
+    ground = min(1.3, max(0.4, 0.6 * ((tip or 0.0) - shell_end - gap)))
+    if tip is not None and tip >= shell_end + ground + gap:
         electrode_end = tip - ground - gap
     elif tip is not None:
         electrode_end = tip  # recessed or surface gap: the centre electrode is the furthest point
@@ -454,7 +479,7 @@ def _plug_section(svg: _Svg, plug: PlugSpec, layout: AxialLayout, radius: float,
                 fill="#fbfbf4", stroke="#000", stroke_width=1.1, data_part="insulator")
     svg.element("rect", x=x(-1.0), y=y(top), width=2.0 * scale, height=max(0.0, electrode_end - top) * scale,
                 fill="#4d4d4d", stroke="#000", stroke_width=0.8, data_part="centre-electrode")
-    if tip is not None and tip > shell_end + ground:
+    if tip is not None and tip >= shell_end + ground + gap:
         arm_in, arm_out = bore - 0.2, bore + 1.1
         svg.element("path", d=(f"M{x(arm_in):.2f},{y(shell_end):.2f} L{x(arm_in):.2f},{y(tip - ground):.2f} "
                                f"L{x(-1.6):.2f},{y(tip - ground):.2f} L{x(-1.6):.2f},{y(tip):.2f} "
@@ -499,16 +524,20 @@ def _dimensions(result: FitResult, layout: AxialLayout, units: str) -> list[tupl
     return dims
 
 
-def _legend_rows(findings: list[Finding]) -> list[tuple[str, str]]:
-    rows: list[tuple[str, str]] = []
-    for finding in findings:
+def _legend_rows(findings: list[Finding], messages: list[str]) -> list[tuple[str, str, list[str]]]:
+    """(severity, heading, wrapped message lines) per finding; skipped checks on one row."""
+    rows: list[tuple[str, str, list[str]]] = []
+    for finding, message in zip(findings, messages):
         if finding.code != "NOT_CHECKED" or finding.severity != "info":
             label = SEVERITY_STYLE[finding.severity]["label"]
-            rows.append((finding.severity, f"{label}  {finding.code}  ({finding.check.replace('_', ' ')})"))
+            rows.append((finding.severity, f"{label}  {finding.code}  ({finding.check.replace('_', ' ')})",
+                         textwrap.wrap(message, LEGEND_WRAP_CHARS)))
     skipped = sorted({f.check.replace("_", " ") for f in findings
                       if f.code == "NOT_CHECKED" and f.severity == "info"})
     if skipped:
-        rows.append(("info", "INFO  not checked for lack of data: " + ", ".join(skipped)))
+        rows.append(("info", "INFO  not checked for lack of data",
+                     textwrap.wrap(", ".join(skipped) + " (the result's findings say what each one needs)",
+                                   LEGEND_WRAP_CHARS)))
     if not rows:
-        rows.append(("", "no findings: every check that had its data passed"))
+        rows.append(("", "No findings: every check that had its data passed.", []))
     return rows
