@@ -17,8 +17,8 @@ Pure floats: bar (absolute), kelvin, mm, kV.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 from functools import lru_cache
+from typing import NamedTuple
 
 # Specific gas constant of dry air, J/(kg·K) (ISO 2533:1975 standard atmosphere,
 # R = 287.052 87; from memory).
@@ -211,9 +211,8 @@ def _uniform_field_pd_bar_cm(voltage_kv: float) -> float:
     return root * root
 
 
-@dataclass(frozen=True, slots=True)
-class SparkEstimate:
-    """What the gap-voltage estimate computed."""
+class SparkEstimate(NamedTuple):
+    """What the gap-voltage estimate computed (a NamedTuple: one is made per fit check)."""
 
     intake_density_kg_m3: float
     density_ratio: float

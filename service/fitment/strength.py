@@ -15,6 +15,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 from functools import lru_cache
+from typing import NamedTuple
 
 from .threads import ThreadLimits, limits_6g_6H
 
@@ -94,6 +95,7 @@ class EngagementAllowances:
     incomplete_thread_mm: float
 
     @classmethod
+    @lru_cache(maxsize=16)
     def common_practice(cls, pitch_mm: float) -> EngagementAllowances:
         return cls(
             thread_relief_mm=THREAD_RELIEF_PITCHES * pitch_mm,
@@ -102,9 +104,9 @@ class EngagementAllowances:
         )
 
 
-@dataclass(frozen=True, slots=True)
-class ThreadStrength:
-    """What the stripping estimate computed (newtons, mm, mm², MPa)."""
+class ThreadStrength(NamedTuple):
+    """What the stripping estimate computed (newtons, mm, mm², MPa). A NamedTuple: one
+    is made per fit check, and a tuple is the cheapest record Python builds."""
 
     torque_nm: float
     nut_factor: float
