@@ -2,7 +2,10 @@
 # Everything is installed into .venv from pyproject.toml; nothing is needed beforehand
 # but Python 3.11+ and network access to the package index.
 
-PYTHON ?= $(shell command -v python3.13 || command -v python3.12 || command -v python3.11 || command -v python3)
+# The first of these that runs and is 3.11 or newer (a pyenv shim may exist but not run).
+PYTHON ?= $(shell for candidate in python3 python3.13 python3.12 python3.11; do \
+            if $$candidate -c 'import sys; sys.exit(sys.version_info < (3, 11))' 2>/dev/null; then \
+              command -v $$candidate; break; fi; done)
 VENV   := .venv
 BIN    := $(VENV)/bin
 STAMP  := $(VENV)/.installed
@@ -15,7 +18,7 @@ PORT   ?= 8000
 venv: $(STAMP)
 
 $(STAMP): pyproject.toml
-	@$(PYTHON) -c 'import sys; sys.exit(0 if sys.version_info >= (3, 11) else "plugfit needs Python 3.11 or newer; set PYTHON=/path/to/python3.11")'
+	@test -n "$(PYTHON)" || { echo "plugfit needs Python 3.11 or newer; set PYTHON=/path/to/python3.11" >&2; exit 1; }
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
 	$(BIN)/python -m pip install --quiet --upgrade pip
 	$(BIN)/python -m pip install --quiet -e '.[test]'
