@@ -21,6 +21,9 @@ from dataclasses import dataclass
 from xml.sax.saxutils import escape, quoteattr
 
 from schemas.results import result_document
+from schemas.specs import options_from, plug_spec, port_spec
+from service.checking import Lookup, resolve
+from service.fitment import check_fit
 from service.fitment.catalog import Catalog
 from service.fitment.context import FitContext
 from service.fitment.geometry import derive
@@ -373,6 +376,19 @@ def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str
     svg.element("text", CAUTION, x=20, y=height - 16, font_size=10.5, fill="#333", font_style="italic")
     svg.raw("</svg>")
     return '<?xml version="1.0" encoding="UTF-8"?>\n' + "\n".join(svg.parts) + "\n"
+
+
+def render_request_svg(request: dict, catalog: Catalog, find_plug: Lookup, find_head: Lookup,
+                       units: str = "metric") -> str:
+    """The drawing for a loaded fit-check request: the one path the API and the CLI share.
+
+    References (`sku`, `head_id`) are resolved with the caller's look-ups; an unknown one
+    raises `service.checking.UnknownReference`, as for the check itself.
+    """
+    plug, head = resolve(request, find_plug, find_head)
+    plug_data, port_data = plug_spec(plug), port_spec(head)
+    result = check_fit(plug_data, port_data, options_from(request.get("options")), catalog)
+    return render_fit_svg(plug_data, port_data, result, units, catalog=catalog)
 
 
 def _label(svg: _Svg, text: str, x: float, y: float, size: float = 11.0, anchor: str = "start",

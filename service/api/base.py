@@ -28,6 +28,7 @@ from service import auth, problems
 
 BEARER_SCHEME = "bearerAuth"
 CONTRACT_MAX_PAGE_SIZE = 1000
+MAX_PAGE = 1_000_000_000
 
 
 class JsonBodyParser(FlaskParser):
@@ -38,7 +39,12 @@ class JsonBodyParser(FlaskParser):
         if not core.is_json(req.mimetype) and req.get_data(cache=True):
             sent = f"as {req.mimetype}" if req.mimetype else "without a content type"
             problems.abort(415, f"The body was sent {sent}; send JSON with 'Content-Type: application/json'.")
-        return super().load_json(req, schema)
+        try:
+            return super().load_json(req, schema)
+        except RecursionError:
+            # json.loads recurses once per nesting level; a body nested thousands deep
+            # is not a plug, and must not become a 500.
+            problems.abort(400, "The request body is nested too deeply to read.")
 
 
 class Api(flask_smorest.Api):
@@ -94,6 +100,11 @@ class Blueprint(flask_smorest.Blueprint):
                 if raw is not None and raw.isdigit() and int(raw) > limit:
                     problems.abort(422, f"page_size may be at most {limit}.",
                                    errors={"page_size": [f"Must be between 1 and {limit}."]})
+                raw_page = request.args.get("page")
+                if raw_page is not None and raw_page.isdigit() and int(raw_page) > MAX_PAGE:
+                    # Far past any list, and past what a database OFFSET can hold.
+                    problems.abort(422, f"page may be at most {MAX_PAGE}.",
+                                   errors={"page": [f"Must be between 1 and {MAX_PAGE}."]})
                 return paginated(*args, **kw)
 
             return wrapper

@@ -10,14 +10,13 @@ from flask import Response
 from flask.views import MethodView
 
 from schemas.inventory import UnitsQuerySchema
-from schemas.specs import FitCheckRequestSchema, options_from, plug_spec, port_spec
+from schemas.specs import FitCheckRequestSchema
 from service import auth, db, problems, repository
 from service.api import examples
 from service.api.base import Blueprint
 from service.catalog_loader import load_catalog
-from service.checking import UnknownReference, resolve
-from service.diagram import render_fit_svg
-from service.fitment import check_fit
+from service.checking import UnknownReference
+from service.diagram import render_request_svg
 
 SVG_MEDIA_TYPE = "image/svg+xml"
 # The start of an answer, for the OpenAPI document (a real drawing is a few hundred lines).
@@ -49,11 +48,8 @@ class FitCheckDiagram(MethodView):
         session = db.session()
         plugs, heads = repository.plugs(session), repository.heads(session)
         try:
-            plug, head = resolve(request_document, plugs.document, heads.document)
+            svg = render_request_svg(request_document, load_catalog(), plugs.document, heads.document,
+                                     query["units"])
         except UnknownReference as unknown:
             problems.abort(404, f"No {unknown.what} {unknown.identifier!r}.", errors=unknown.errors())
-        catalog = load_catalog()
-        plug_data, port_data = plug_spec(plug), port_spec(head)
-        result = check_fit(plug_data, port_data, options_from(request_document.get("options")), catalog)
-        svg = render_fit_svg(plug_data, port_data, result, query["units"], catalog=catalog)
         return Response(svg, mimetype=SVG_MEDIA_TYPE)

@@ -116,3 +116,15 @@ def test_an_unhandled_exception_is_a_500_problem_without_a_stack_trace(app, capl
         "detail": "The service failed while answering; the failure has been logged."}
     # The operator still gets the details, in the log.
     assert any("RuntimeError" in (record.exc_text or "") or record.exc_info for record in caplog.records)
+
+
+def test_a_body_nested_thousands_deep_is_a_400_problem_not_a_500(client):
+    response = client.post("/v1/fit-checks", data="[" * 100_000 + "]" * 100_000, content_type="application/json")
+    assert response.status_code == 400
+    assert response.mimetype == PROBLEM_MEDIA_TYPE
+
+
+def test_a_page_number_past_any_database_offset_is_a_422_naming_page(client):
+    response = client.get("/v1/plugs?page=99999999999999999999999")
+    assert response.status_code == 422
+    assert list(response.get_json(force=True)["errors"]) == ["page"]
