@@ -49,7 +49,17 @@ def read_json_lines(path: Path) -> RawRecords:
                 raise SeedError(f"{path.name} line {number}: not JSON ({error})") from None
 
 
-DEMO_READERS: dict[str, Callable[[Path], RawRecords]] = {".jsonl": read_json_lines}
+def read_exchange_csv(path: Path) -> RawRecords:
+    """The inventory exchange CSV (`service.inventory`); the file's stem names the resource."""
+    from service import inventory
+
+    try:
+        yield from inventory.read_csv(inventory.decode(path.read_bytes()), inventory.format_for(path.stem))
+    except inventory.FileUnusable as error:
+        raise SeedError(f"{path.name}: {error}") from None
+
+
+DEMO_READERS: dict[str, Callable[[Path], RawRecords]] = {".jsonl": read_json_lines, ".csv": read_exchange_csv}
 
 
 @dataclass

@@ -1,0 +1,1 @@
+"""DEMO DATA: the invented demo shop (see README.md here)."""
