@@ -12,6 +12,7 @@ from http import HTTPStatus
 from typing import Any, Mapping, NoReturn
 
 from flask import Flask, Response, current_app, json
+from sqlalchemy.exc import OperationalError
 from webargs.flaskparser import abort as _webargs_abort
 from werkzeug.exceptions import HTTPException, InternalServerError
 
@@ -162,9 +163,18 @@ def handle_http_exception(error: HTTPException) -> Response:
 
 def init_app(app: Flask) -> None:
     app.register_error_handler(HTTPException, handle_http_exception)
+    # A locked SQLite file (a long write elsewhere) or a database that went away is not
+    # a fault of the request: 503 with Retry-After tells a client to try again.
+    app.register_error_handler(OperationalError, _handle_database_unavailable)
     # An exception escaping a view reaches Flask as InternalServerError(original_exception=…);
     # registering the base class as well covers errors raised outside the view.
     app.register_error_handler(Exception, _handle_unexpected)
+
+
+def _handle_database_unavailable(error: OperationalError) -> Response:
+    log.error("database unavailable", extra={"fields": {"error": str(error.orig)[:200]}})
+    return problem_response(503, "The database is busy or unreachable; retry shortly.",
+                            slug="database-unavailable", headers={"Retry-After": "1"})
 
 
 def _handle_unexpected(error: Exception) -> Response:

@@ -128,3 +128,21 @@ def test_a_page_number_past_any_database_offset_is_a_422_naming_page(client):
     response = client.get("/v1/plugs?page=99999999999999999999999")
     assert response.status_code == 422
     assert list(response.get_json(force=True)["errors"]) == ["page"]
+
+
+def test_a_busy_or_unreachable_database_is_a_503_problem_with_retry_after(app, monkeypatch):
+    from sqlalchemy.exc import OperationalError
+
+    from service import repository
+
+    def locked(*args, **kwargs):
+        raise OperationalError("SELECT", {}, Exception("database is locked"))
+
+    monkeypatch.setattr(repository.Repository, "get", locked)
+    response = app.test_client().get("/v1/plugs/ANY")
+    assert response.status_code == 503
+    assert response.mimetype == PROBLEM_MEDIA_TYPE
+    assert response.headers["Retry-After"] == "1"
+    body = response.get_json(force=True)
+    assert body["type"] == "tag:plugfit,2025:problem/database-unavailable"
+    assert "locked" not in body["detail"]
