@@ -32,6 +32,25 @@ class Defaults:
     # Python logging level name for the service's own log lines.
     LOG_LEVEL: str = "INFO"
 
+    # The server (`plugfit serve`, gunicorn); see service/serving.py for the worker model.
+    # Address and port to listen on.
+    BIND: str = "127.0.0.1:8000"
+    # Worker processes; 0 (the default) means one per CPU core.
+    WORKERS: int = 0
+    # Threads per worker; above 1 selects gunicorn's gthread workers.
+    THREADS: int = 1
+    # Seconds a worker may stay silent before it is replaced.
+    TIMEOUT: int = 30
+    # Seconds running requests get to finish on a stop or reload.
+    GRACEFUL_TIMEOUT: int = 10
+    # Seconds an idle keep-alive connection is held (set above the idle timeout of a
+    # load balancer that keeps connections to the workers open).
+    KEEPALIVE: int = 5
+    # A worker is replaced after this many requests, plus up to the jitter, so they
+    # never all restart at once.
+    MAX_REQUESTS: int = 10_000
+    MAX_REQUESTS_JITTER: int = 1_000
+
 
 SETTING_NAMES: tuple[str, ...] = tuple(
     name for name in vars(Defaults) if name.isupper() and not name.startswith("_")

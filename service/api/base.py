@@ -86,6 +86,14 @@ class Blueprint(flask_smorest.Blueprint):
         super().__init__(*args, **kwargs)
         self._prepare_doc_cbks.append(self._prepare_security_doc)
 
+    # --- arguments: one schema instance per operation, built when the view is declared
+    def arguments(self, schema, **kwargs):  # type: ignore[override]
+        """Given a schema class, webargs builds a new instance (and deep-copies every
+        nested schema's fields) on each request: about a third of a fit-check's time,
+        measured with cProfile (benchmarks/bench_load.py). Instances are reusable:
+        loading does not mutate them."""
+        return super().arguments(schema() if isinstance(schema, type) else schema, **kwargs)
+
     # --- pagination: the configured limit may be lower than the contract's ceiling
     def paginate(self, pager=None, **kwargs):  # type: ignore[override]
         smorest_decorator = super().paginate(pager, **kwargs)

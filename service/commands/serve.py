@@ -1,13 +1,12 @@
 """`plugfit serve`: the API under gunicorn."""
 from __future__ import annotations
 
-import os
 from typing import Any
 
 import click
 from flask import Flask
 
-from service import db
+from service import db, serving
 from service.commands.common import with_app
 
 
@@ -17,23 +16,14 @@ def _head_revision() -> str | None:
     return ScriptDirectory.from_config(db.alembic_config("sqlite://")).get_current_head()
 
 
-def run_gunicorn(host: str, port: int, workers: int, threads: int) -> None:
-    """Run gunicorn in this process; each worker builds its own app (and engine) after
-    the fork, so no database connection is shared between processes."""
+def run_gunicorn(settings: dict[str, Any]) -> None:
+    """Run gunicorn in this process with `settings` (service.serving.gunicorn_settings);
+    each worker builds its own app (and engine) after the fork, so no database
+    connection is shared between processes."""
     from gunicorn.app.base import BaseApplication
 
     class PlugfitServer(BaseApplication):
         def load_config(self) -> None:
-            settings: dict[str, Any] = {
-                "bind": f"{host}:{port}",
-                "workers": workers,
-                "threads": threads,
-                "worker_class": "gthread" if threads > 1 else "sync",
-                "accesslog": None,  # the app logs one structured line per request
-                "errorlog": "-",
-                "timeout": 120,
-                "graceful_timeout": 10,
-            }
             for key, value in settings.items():
                 self.cfg.set(key, value)
 
@@ -46,14 +36,23 @@ def run_gunicorn(host: str, port: int, workers: int, threads: int) -> None:
 
 
 @click.command("serve")
-@click.option("--host", default="127.0.0.1", show_default=True, help="Address to listen on.")
-@click.option("--port", default=8000, show_default=True, type=click.IntRange(1, 65535), help="Port to listen on.")
-@click.option("--workers", default=lambda: min(4, (os.cpu_count() or 1)), show_default="CPU count, at most 4",
-              type=click.IntRange(1, 64), help="Worker processes.")
-@click.option("--threads", default=2, show_default=True, type=click.IntRange(1, 64), help="Threads per worker.")
+@click.option("--host", help="Address to listen on.  [default: from PLUGFIT_BIND, 127.0.0.1]")
+@click.option("--port", type=click.IntRange(1, 65535), help="Port to listen on.  [default: from PLUGFIT_BIND, 8000]")
+@click.option("--workers", type=click.IntRange(1, 64),
+              help="Worker processes.  [default: PLUGFIT_WORKERS, else one per CPU core]")
+@click.option("--threads", type=click.IntRange(1, 64),
+              help="Threads per worker; above 1 means gthread workers.  [default: PLUGFIT_THREADS, else 1]")
 @with_app
-def command(app: Flask, host: str, port: int, workers: int, threads: int) -> None:
-    """Serve the API with gunicorn (default http://127.0.0.1:8000)."""
+def command(app: Flask, host: str | None, port: int | None, workers: int | None, threads: int | None) -> None:
+    """Serve the API with gunicorn (default http://127.0.0.1:8000).
+
+    Other server settings (timeouts, keep-alive, worker recycling) come from PLUGFIT_*
+    variables; see service/serving.py and the README."""
+    bind = serving.server_settings()["BIND"]
+    if host is not None or port is not None:
+        bind_host, _, bind_port = bind.rpartition(":")
+        bind = f"{host or bind_host}:{port or bind_port}"
+    settings = serving.gunicorn_settings(bind=bind, workers=workers, threads=threads)
     url = app.config["DATABASE_URL"]
     current, head = db.current_revision(url), _head_revision()
     if current != head:
@@ -61,6 +60,6 @@ def command(app: Flask, host: str, port: int, workers: int, threads: int) -> Non
             f"the database is at revision {current or 'base'}, the code needs {head}: run `plugfit db upgrade` first"
         )
     db.get_database(app).engine.dispose()  # the workers open their own connections
-    click.echo(f"plugfit serving on http://{host}:{port} (database: {db.safe_url(url)})", err=True)
-    run_gunicorn(host, port, workers, threads)
+    click.echo(f"plugfit serving on http://{bind} (database: {db.safe_url(url)})", err=True)
+    run_gunicorn(settings)
 

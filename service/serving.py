@@ -1,0 +1,71 @@
+"""gunicorn's settings for plugfit, from the same PLUGFIT_* variables as everything else.
+
+Worker model: gunicorn's pre-fork `sync` workers, one request at a time each, by
+default one per CPU core (PLUGFIT_WORKERS=0 means "one per core"). A fit-check is
+pure CPU in Python (the GIL lets one thread compute at a time) and its database reads
+take well under a millisecond, so threads add switching, not throughput (the README
+has the figures of benchmarks/bench_load.py for the mixes tried). Set
+PLUGFIT_THREADS above 1 for gthread workers instead: worth it when the database is
+remote (PostgreSQL over a network), where a request waits on I/O, or when clients hold
+keep-alive connections open without a buffering proxy in front.
+
+Each worker builds its own app, engine and connection pool after the fork (no
+`preload_app`), so no database connection crosses a process boundary. A worker holds
+no state a request leaves behind: the catalogue is read-only files, keys and records
+live in the database, so any number of processes on any number of machines can serve
+one database behind a load balancer.
+"""
+from __future__ import annotations
+
+import os
+from typing import Any, Mapping
+
+from service import config
+
+# Settings of config.Defaults that configure the server rather than the app.
+SERVER_SETTINGS: tuple[str, ...] = (
+    "BIND", "WORKERS", "THREADS", "TIMEOUT", "GRACEFUL_TIMEOUT", "KEEPALIVE",
+    "MAX_REQUESTS", "MAX_REQUESTS_JITTER",
+)
+
+
+def default_workers(cpu_count: int | None) -> int:
+    """One sync worker per core: the work is CPU-bound (see the module docstring)."""
+    return max(1, cpu_count or 1)
+
+
+def server_settings(environ: Mapping[str, str] | None = None, **overrides: Any) -> dict[str, Any]:
+    """The PLUGFIT_ server settings: defaults, then environment, then `overrides`
+    that are not None (the `plugfit serve` options)."""
+    settings = {name: getattr(config.Defaults, name) for name in SERVER_SETTINGS}
+    found = config.from_environment(environ)[0]
+    settings.update({name: value for name, value in found.items() if name in SERVER_SETTINGS})
+    settings.update({name.upper(): value for name, value in overrides.items() if value is not None})
+    return settings
+
+
+def gunicorn_settings(environ: Mapping[str, str] | None = None, **overrides: Any) -> dict[str, Any]:
+    """gunicorn's own setting names and values for `server_settings(...)`."""
+    settings = server_settings(environ, **overrides)
+    threads = settings["THREADS"]
+    gunicorn = {
+        "bind": settings["BIND"],
+        "workers": settings["WORKERS"] or default_workers(os.cpu_count()),
+        "threads": threads,
+        "worker_class": "gthread" if threads > 1 else "sync",
+        # A worker silent this long is killed and replaced (a stuck request cannot
+        # take its worker down for good).
+        "timeout": settings["TIMEOUT"],
+        "graceful_timeout": settings["GRACEFUL_TIMEOUT"],
+        "keepalive": settings["KEEPALIVE"],
+        # Recycle workers now and then, staggered, so slow leaks cannot accumulate.
+        "max_requests": settings["MAX_REQUESTS"],
+        "max_requests_jitter": settings["MAX_REQUESTS_JITTER"],
+        "preload_app": False,
+        "accesslog": None,  # the app logs one structured line per request
+        "errorlog": "-",
+    }
+    if os.path.isdir("/dev/shm"):
+        # gunicorn's heartbeat file: on a memory filesystem a slow disk cannot stall it.
+        gunicorn["worker_tmp_dir"] = "/dev/shm"
+    return gunicorn
