@@ -240,6 +240,9 @@ def check_thread_strength(ctx: FitContext) -> None:
             return
         torque = guide.max_nm
         ctx.assume("thread strength: no planned torque: the top of the recommended range is used")
+    if torque <= 0.0:
+        ctx.not_checked("thread_strength", "a planned torque of zero puts no preload on the thread")
+        return
     if port.material is None:
         ctx.assume("thread strength: head material not given: aluminium (the weaker) is assumed")
     if options.lubrication is None:
@@ -288,6 +291,12 @@ def check_gap_voltage(ctx: FitContext) -> None:
                if value is None]
     if missing:
         ctx.not_checked("gap_voltage", " and ".join(missing) + " not given")
+        return
+    if gap <= 0.0:
+        ctx.not_checked("gap_voltage", "a gap of zero has nothing to break down")
+        return
+    if port.stroke_mm is not None and port.rod_length_mm is not None and port.rod_length_mm <= port.stroke_mm / 2:
+        ctx.not_checked("gap_voltage", "the rod_length must be longer than half the stroke")
         return
     pressure, temperature = port.intake_pressure_bar, port.intake_temperature_k
     if pressure is None:

@@ -156,10 +156,17 @@ def breakdown_kv(pressure_bar: float, gap_mm: float) -> float:
     """Breakdown voltage of air at a density-equivalent pressure (bar at 293 K) and gap.
 
     Paschen's law up to the crossover p·d, the uniform-field relation above it (see
-    `paschen_crossover_torr_cm`). Below Paschen's minimum the voltage rises again as p·d
-    falls (the left branch): a property of the gas, met only at near-vacuum.
+    `paschen_crossover_torr_cm`). Left of Paschen's minimum (sub-micrometre gaps at engine
+    densities, or near-vacuum) the formula rises again, but between real electrodes the
+    discharge then takes a longer path with p·d near the minimum, so the minimum voltage
+    is returned (the usual reading of the left branch, Raizer, Gas Discharge Physics, ch. 4;
+    from memory).
+    That also keeps the demand from ever falling as the gap widens.
     """
     pd_torr_cm = pressure_bar * TORR_PER_BAR * gap_mm / 10.0
+    pd_min, volts_min = paschen_minimum()
+    if pd_torr_cm <= pd_min:
+        return volts_min / 1000.0
     if pd_torr_cm <= paschen_crossover_torr_cm():
         return paschen_breakdown_kv(pd_torr_cm)
     return uniform_field_breakdown_kv(pressure_bar, gap_mm)

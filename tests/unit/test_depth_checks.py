@@ -15,7 +15,16 @@ Heat-range scales and boot ranges are invented demo values.
 """
 from __future__ import annotations
 
+import json
+import xml.etree.ElementTree as ET
+
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from schemas.results import result_document
+from schemas.specs import FitCheckRequestSchema, plug_spec, port_spec
+from service.diagram import render_fit_svg
 
 M14_FLAT_PLUG = {"thread": "M14x1.25", "seat": "flat", "reach": 12.7, "gasket_thickness": 1.5}
 M14_FLAT_HEAD = {"thread": "M14x1.25", "seat": "flat", "port_depth": 11.2, "material": "aluminium",
@@ -206,3 +215,45 @@ def test_a_terminal_inside_the_boot_range_passes(check):
 def test_a_head_without_a_boot_range_is_not_checked(check):
     result = check(dict(M14_FLAT_PLUG, terminal_height=50.0), M14_FLAT_HEAD)
     assert "boot_range" in not_checked(result, "boot").message
+
+
+# --- inputs the schemas accept but the physics cannot use ---------------------------------
+
+def test_a_zero_gap_or_an_impossible_crank_is_not_checked_rather_than_an_error(check):
+    assert "zero" in not_checked(check(dict(M14_FLAT_PLUG, gap=0), ENGINE_HEAD), "gap_voltage").message
+    head = dict(ENGINE_HEAD, spark_advance=20, stroke=100, rod_length=40)  # rod shorter than the crank radius
+    assert "rod_length" in not_checked(check(dict(M14_FLAT_PLUG, gap=0.7), head), "gap_voltage").message
+
+
+def test_a_zero_planned_torque_is_not_checked_rather_than_an_infinite_safety_factor(check):
+    result = check(M14_FLAT_PLUG, dict(M14_FLAT_HEAD, peak_pressure=None), {"torque": 0})
+    assert "torque of zero" in not_checked(result, "thread_strength").message
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(reach=st.floats(0.5, 40), gasket=st.floats(0, 3), depth=st.floats(0.5, 40), firing=st.floats(-3, 8),
+       gap=st.floats(0, 5), ratio=st.floats(1, 40), intake=st.floats(0.05, 10), temperature=st.floats(200, 600),
+       peak=st.one_of(st.none(), st.floats(1, 500)), volts=st.floats(1, 100), torque=st.floats(0, 500),
+       advance=st.floats(-20, 90), stroke=st.floats(5, 2000), rod=st.floats(10, 5000),
+       terminal=st.floats(0, 100), seat=st.sampled_from(["flat", "conical"]),
+       lubrication=st.sampled_from(["dry", "oiled", "anti_seize"]))
+def test_no_request_the_schemas_accept_makes_the_depth_checks_or_the_drawing_fail(
+        check, catalog, reach, gasket, depth, firing, gap, ratio, intake, temperature, peak, volts, torque,
+        advance, stroke, rod, terminal, seat, lubrication):
+    plug = {"thread": "M14x1.25", "seat": seat, "reach": reach, "firing_end": firing, "gap": gap,
+            "terminal_height": terminal, "heat_range": {"scale": "s", "value": 5}}
+    if seat == "flat":
+        plug["gasket_thickness"] = gasket
+    head = {"thread": "M14x1.25", "seat": seat, "port_depth": depth, "piston_clearance": 5.0, "material": "cast_iron",
+            "compression_ratio": ratio, "intake_pressure": f"{intake} bar", "intake_temperature": f"{temperature} K",
+            "peak_pressure": peak, "ignition_voltage": volts, "spark_advance": advance, "stroke": stroke,
+            "rod_length": rod, "boot_range": {"min": 40, "max": 60},
+            "heat_range_band": {"scale": "s", "min": 4, "max": 6}}
+    result = check(plug, head, {"torque": torque, "lubrication": lubrication})
+    document = result_document(result, "imperial")
+    json.dumps(document, allow_nan=False)  # every number finite
+    for check_name in ("thread_strength", "gap_voltage", "heat_range", "boot"):
+        assert check_name in result.analysis or not_checked(result, check_name) is not None
+    loaded = FitCheckRequestSchema().load({"plug": plug, "head": head})
+    svg = render_fit_svg(plug_spec(loaded["plug"]), port_spec(loaded["head"]), result, "metric", catalog=catalog)
+    ET.fromstring(svg.encode())
