@@ -17,6 +17,7 @@ BLUEPRINT_MODULES: tuple[str, ...] = (
     "service.api.heads",
     "service.api.fit_checks",
     "service.api.diagrams",
+    "service.api.batch",
     "service.api.exchange",
 )
 

@@ -1,0 +1,189 @@
+"""Checking build lists: every item through the schemas and the engine, bad items
+isolated, waivers, `require`, references resolved in one lookup, and the answer's shape."""
+from __future__ import annotations
+
+import json
+
+import pytest
+from marshmallow import ValidationError
+
+from schemas.batch import BatchResponseSchema
+from schemas.specs import HeadInputSchema, OptionsSchema, PlugInputSchema, StoredHeadSchema, StoredPlugSchema
+from service.batch import _schema_for, run_batch
+from service.buildlist import read_csv, read_json_document
+
+# The contract's flush fit (fit-check-contract.md, "Geometry"): thread end e = 19.0 − 1.5
+# = 17.5 mm = port depth, so the protrusion is 0.0 mm; tip t = 17.5 + 4.0 = 21.5 mm;
+# piston margin = (17.5 + 8.0) − 21.5 = 4.0 mm.
+FLUSH_PLUG = {"thread": "M14x1.25", "seat": "flat", "reach": 19.0, "gasket_thickness": 1.5, "firing_end": 4.0}
+FLUSH_HEAD = {"thread": "M14x1.25", "seat": "flat", "port_depth": 17.5, "piston_clearance": 8.0}
+# A 26.5 mm reach (a long standard reach, reference-values.md, common practice) in the
+# same port: protrusion 26.5 − 1.5 − 17.5 = 7.5 mm > the 0.5 mm flush tolerance →
+# REACH_LONG; with 20 mm piston clearance the margin is (17.5 + 20) − (25 + 4) = 8.5 mm.
+LONG_PLUG = dict(FLUSH_PLUG, reach=26.5)
+ROOMY_HEAD = dict(FLUSH_HEAD, piston_clearance=20.0)
+
+
+def batch(items: list, catalog, fetch=None, **kwargs) -> dict:
+    raw = read_json_document({"items": items})
+    if fetch is None:
+        return run_batch(raw, catalog, **kwargs).as_dict()
+    return run_batch(raw, catalog, fetch, **kwargs).as_dict()
+
+
+def test_the_contract_flush_fit_passes_with_the_contract_numbers(catalog):
+    answer = batch([{"ref": "flush", "plug": FLUSH_PLUG, "head": FLUSH_HEAD}], catalog)
+    result = answer["results"][0]
+    assert result["ref"] == "flush" and result["verdict"] == "pass"
+    assert result["geometry"]["thread_protrusion"]["nominal"] == pytest.approx(0.0)
+    assert result["geometry"]["tip_position"]["nominal"] == pytest.approx(21.5)
+    assert result["geometry"]["piston_margin"]["nominal"] == pytest.approx(4.0)
+    assert answer["summary"] == {"total": 1, "pass": 1, "warn": 0, "fail": 0, "invalid": 0, "verdict": "pass"}
+
+
+def test_a_bad_item_is_invalid_with_its_field_errors_and_the_others_are_still_checked_in_order(catalog):
+    items = [
+        {"ref": "ok", "plug": FLUSH_PLUG, "head": FLUSH_HEAD},
+        {"ref": "kilograms", "plug": dict(FLUSH_PLUG, reach="3 kg"), "head": FLUSH_HEAD},
+        "not an object",
+        {"ref": "long", "plug": LONG_PLUG, "head": ROOMY_HEAD},
+        {"plug": FLUSH_PLUG},
+        {"ref": "stray", "plug": FLUSH_PLUG, "head": FLUSH_HEAD, "colour": "red"},
+    ]
+    answer = batch(items, catalog)
+    results = answer["results"]
+    assert [r["ref"] for r in results] == ["ok", "kilograms", "3", "long", "5", "stray"]
+    assert [r["verdict"] for r in results] == ["pass", "invalid", "invalid", "warn", "invalid", "invalid"]
+    assert list(results[1]["errors"]) == ["plug"] and list(results[1]["errors"]["plug"]) == ["reach"]
+    assert results[4]["errors"] == {"head": ["Missing data for required field."]}
+    assert results[5]["errors"] == {"colour": ["Unknown field."]}
+    assert "findings" not in results[1]
+    assert answer["summary"] == {"total": 6, "pass": 1, "warn": 1, "fail": 0, "invalid": 4, "verdict": "fail"}
+
+
+def test_the_long_reach_warns_by_the_protrusion_the_contract_gives(catalog):
+    result = batch([{"plug": LONG_PLUG, "head": ROOMY_HEAD}], catalog)["results"][0]
+    (finding,) = [f for f in result["findings"] if f["code"] == "REACH_LONG"]
+    assert finding["values"]["thread_protrusion"] == {"value": pytest.approx(7.5), "unit": "mm"}
+    assert result["geometry"]["piston_margin"]["nominal"] == pytest.approx(8.5)
+
+
+def test_a_waiver_moves_the_finding_out_of_the_verdict_and_keeps_its_reason(catalog):
+    waive = [{"codes": ["REACH_LONG"], "reason": "domed piston relieved for the long reach"},
+             {"codes": ["VALVE_CONTACT"], "reason": "no such finding here"}]
+    result = batch([{"plug": LONG_PLUG, "head": ROOMY_HEAD, "waive": waive}], catalog)["results"][0]
+    assert result["verdict"] == "pass"
+    assert "REACH_LONG" not in [f["code"] for f in result["findings"]]
+    first, stale = result["waivers"]
+    assert first["reason"] == "domed piston relieved for the long reach"
+    assert [f["code"] for f in first["findings"]] == ["REACH_LONG"]
+    assert first["findings"][0]["values"]["thread_protrusion"]["value"] == pytest.approx(7.5)
+    assert stale["findings"] == []
+
+
+def test_a_waiver_without_a_reason_makes_the_line_invalid(catalog):
+    results = batch([{"plug": LONG_PLUG, "head": ROOMY_HEAD, "waive": [{"codes": ["REACH_LONG"]}]},
+                     {"plug": LONG_PLUG, "head": ROOMY_HEAD, "waive": [{"codes": ["REACH_LONG"], "reason": "  "}]}],
+                    catalog)["results"]
+    assert [r["verdict"] for r in results] == ["invalid", "invalid"]
+    assert results[0]["errors"] == {"waive": {0: {"reason": ["a waiver needs a written reason"]}}}
+    assert results[1]["errors"]["waive"][0]["reason"] == ["a waiver needs a written reason"]
+
+
+def test_a_waiver_in_a_csv_list_is_reported_under_the_waive_column(catalog):
+    text = ("ref,plug_thread,plug_seat,plug_reach,plug_gasket_thickness,plug_firing_end,head_thread,head_seat,"
+            "head_port_depth,head_piston_clearance,waive\n"
+            "waived,M14,flat,26.5,1.5,4,M14,flat,17.5,20,REACH_LONG: relieved piston\n"
+            "no-reason,M14,flat,26.5,1.5,4,M14,flat,17.5,20,REACH_LONG\n")
+    results = run_batch(read_csv(text), catalog).as_dict()["results"]
+    assert results[0]["verdict"] == "pass" and results[0]["line"] == 2
+    assert results[0]["waivers"][0]["findings"][0]["code"] == "REACH_LONG"
+    assert results[1] == {"ref": "no-reason", "line": 3, "verdict": "invalid",
+                          "errors": {"waive": ["a waiver needs a written reason"]}}
+
+
+def test_require_turns_a_missing_check_into_a_fail_for_every_item(catalog):
+    items = [{"plug": FLUSH_PLUG, "head": FLUSH_HEAD}, {"plug": FLUSH_PLUG, "head": FLUSH_HEAD,
+                                                         "options": {"require": ["piston"]}}]
+    answer = batch(items, catalog, require=["valve"])
+    for result in answer["results"]:
+        (valve,) = [f for f in result["findings"] if f["check"] == "valve"]
+        assert valve["code"] == "NOT_CHECKED" and valve["severity"] == "fail"
+        assert result["verdict"] == "fail"
+    assert answer["summary"]["fail"] == 2
+
+
+def test_references_are_fetched_once_with_every_distinct_identifier(catalog):
+    stored_plug = StoredPlugSchema().load(dict(FLUSH_PLUG, sku="DEMO-1"))
+    stored_head = StoredHeadSchema().load(dict(FLUSH_HEAD, head_id="DEMO-HEAD"))
+    calls = []
+
+    def fetch(skus, head_ids):
+        calls.append((set(skus), set(head_ids)))
+        return {"DEMO-1": stored_plug}, {"DEMO-HEAD": stored_head}
+
+    items = [{"plug": {"sku": "DEMO-1"}, "head": {"head_id": "DEMO-HEAD"}}] * 3
+    items += [{"plug": {"sku": "NO-SUCH"}, "head": FLUSH_HEAD}, {"plug": FLUSH_PLUG, "head": {"head_id": "NONE"}}]
+    results = batch(items, catalog, fetch)["results"]
+    assert calls == [({"DEMO-1", "NO-SUCH"}, {"DEMO-HEAD", "NONE"})]
+    assert [r["verdict"] for r in results] == ["pass", "pass", "pass", "invalid", "invalid"]
+    assert results[0]["geometry"]["piston_margin"]["nominal"] == pytest.approx(4.0)
+    assert results[3]["errors"] == {"plug": {"sku": ["no plug with sku 'NO-SUCH'"]}}
+    assert results[4]["errors"] == {"head": {"head_id": ["no head with head_id 'NONE'"]}}
+
+
+def test_a_list_without_references_never_looks_anything_up(catalog):
+    def fetch(skus, head_ids):
+        raise AssertionError("no lookup expected")
+
+    assert batch([{"plug": FLUSH_PLUG, "head": FLUSH_HEAD}], catalog, fetch)["results"][0]["verdict"] == "pass"
+
+
+def test_an_unknown_reference_in_a_csv_list_names_its_column(catalog):
+    results = run_batch(read_csv("sku,head_thread,head_seat\nGHOST,M14,flat\n"), catalog).as_dict()["results"]
+    assert results[0]["errors"] == {"sku": ["no plug with sku 'GHOST'"]}
+
+
+def test_imperial_answers_give_the_flush_margin_in_inches(catalog):
+    result = batch([{"plug": FLUSH_PLUG, "head": FLUSH_HEAD}], catalog, units="imperial")["results"][0]
+    # 4.0 mm / 25.4 mm per in (NIST SP 811, 2008, B.8) = 0.15748 in.
+    assert result["geometry"]["piston_margin"] == pytest.approx(
+        {"nominal": 0.15748, "min": 0.15748, "max": 0.15748, "rss_min": 0.15748, "rss_max": 0.15748, "unit": "in"})
+
+
+def test_the_json_writer_equals_a_plain_dump_and_the_documented_schema_accepts_it(catalog):
+    items = [{"ref": i, "plug": FLUSH_PLUG, "head": FLUSH_HEAD} for i in range(3)]
+    items += [{"plug": LONG_PLUG, "head": ROOMY_HEAD, "waive": [{"codes": ["REACH_LONG"], "reason": "ok"}]},
+              {"plug": {"reach": "abc"}, "head": FLUSH_HEAD}]
+    answer = run_batch(read_json_document({"items": items}), catalog)
+    written = json.loads(answer.to_json())
+    assert written == json.loads(json.dumps(answer.as_dict()))
+    assert [r["ref"] for r in written["results"]] == ["0", "1", "2", "4", "5"]
+    assert BatchResponseSchema().validate(written) == {}
+
+
+def test_the_documented_schema_refuses_a_result_without_a_verdict():
+    broken = {"summary": {"total": 1, "pass": 1, "warn": 0, "fail": 0, "invalid": 0, "verdict": "pass"},
+              "results": [{"ref": "1"}]}
+    assert "results" in BatchResponseSchema().validate(broken)
+
+
+@pytest.mark.parametrize("schema, document", [
+    (PlugInputSchema(), dict(FLUSH_PLUG, hex="5/8 in")),
+    (PlugInputSchema(), {"sku": "DEMO-1"}),
+    (PlugInputSchema(), {"sku": "DEMO-1", "reach": 19}),
+    (PlugInputSchema(), {"thread": "M14", "reach": "3 kg", "colour": "red"}),
+    (PlugInputSchema(), {}),
+    (HeadInputSchema(), dict(FLUSH_HEAD, design_reach=19.0)),
+    (HeadInputSchema(), dict(FLUSH_HEAD, intake_temperature="45 degC", material="aluminum")),
+    (OptionsSchema(), {"torque": "20 ft-lb", "require": ["piston"]}),
+    (OptionsSchema(), {"torque": -3}),
+])
+def test_a_schema_narrowed_to_the_given_fields_loads_and_refuses_exactly_like_the_full_one(schema, document):
+    def outcome(used):
+        try:
+            return "loaded", used.load(document)
+        except ValidationError as exc:
+            return "refused", exc.messages
+
+    assert outcome(_schema_for(schema, document)) == outcome(schema)
