@@ -18,6 +18,8 @@ COMMAND_MODULES: tuple[str, ...] = (
     "service.commands.seed",
     "service.commands.serve",
     "service.commands.keys",
+    "service.commands.check",
+    "service.commands.validate",
     "service.commands.imports",
     "service.commands.exports",
 )

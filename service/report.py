@@ -1,0 +1,237 @@
+"""How `plugfit check` and `plugfit validate` show results: a readable table, JUnit XML.
+
+Works on the documents the batch endpoint answers (`{"summary", "results"}`) and on
+single result documents, so embedded runs and `--server` runs print the same thing.
+Pure: text in, text out; colour comes in through `style` (click's, from the CLI).
+"""
+from __future__ import annotations
+
+import xml.etree.ElementTree as ET
+from pathlib import PurePath
+from typing import Any, Callable, Iterable
+
+Style = Callable[..., str]
+
+VERDICT_COLOURS = {"pass": "green", "warn": "yellow", "fail": "red", "invalid": "magenta"}
+# Shown in the table and as failures; info findings (NOT_CHECKED, HEX_DIFFERS) are
+# listed only by `plugfit check` and in --format json.
+SHOWN_SEVERITIES = ("warn", "fail")
+MAX_REF_WIDTH = 32
+
+
+def _plain(text: str, **_: Any) -> str:
+    return text
+
+
+def failing_verdicts(fail_on: str) -> frozenset[str]:
+    """Verdicts that make the run fail: invalid and fail always, warn on request."""
+    return frozenset({"fail", "invalid", "warn"} if fail_on == "warn" else {"fail", "invalid"})
+
+
+def exit_code(answer: dict[str, Any], fail_on: str) -> int:
+    """0 when no line fails under the policy, 1 otherwise (see the README's exit codes)."""
+    failing = failing_verdicts(fail_on)
+    return 1 if any(result["verdict"] in failing for result in answer["results"]) else 0
+
+
+def error_lines(errors: Any, path: tuple[str, ...] = ()) -> list[str]:
+    """`{"plug": {"reach": ["..."]}}` as `plug.reach: ...` lines (CSV errors are flat)."""
+    if isinstance(errors, dict):
+        lines: list[str] = []
+        for key, inner in errors.items():
+            lines.extend(error_lines(inner, path + (str(key),)))
+        return lines
+    messages = errors if isinstance(errors, list) else [errors]
+    where = ".".join(path)
+    return [f"{where}: {message}" if where else str(message) for message in messages]
+
+
+def _label(result: dict[str, Any], position: int) -> str:
+    return f"line {result['line']}" if "line" in result else f"item {position}"
+
+
+def _number(result: dict[str, Any], position: int) -> str:
+    """The table's first column: the CSV line, or `#position` for a JSON item."""
+    return str(result["line"]) if "line" in result else f"#{position}"
+
+
+def _finding_label(finding: dict[str, Any]) -> str:
+    if finding["code"] == "NOT_CHECKED":
+        return f"NOT_CHECKED({finding['check']})"
+    return finding["code"]
+
+
+def _shown(result: dict[str, Any]) -> list[dict[str, Any]]:
+    return [finding for finding in result.get("findings", ()) if finding["severity"] in SHOWN_SEVERITIES]
+
+
+def _waived(result: dict[str, Any]) -> Iterable[tuple[dict[str, Any], dict[str, Any]]]:
+    for waiver in result.get("waivers") or ():
+        for finding in waiver["findings"]:
+            yield waiver, finding
+
+
+def _summary_cell(result: dict[str, Any]) -> str:
+    if result["verdict"] == "invalid":
+        lines = error_lines(result.get("errors", {}))
+        return lines[0] + (f" (+{len(lines) - 1} more)" if len(lines) > 1 else "") if lines else "cannot be read"
+    parts = [_finding_label(finding) for finding in _shown(result)]
+    parts += [f"waived {finding['code']}" for _, finding in _waived(result)]
+    return ", ".join(parts)
+
+
+def _clip(text: str, width: int) -> str:
+    return text if len(text) <= width else text[:width - 1] + "…"
+
+
+def text_report(answer: dict[str, Any], source: str, fail_on: str = "fail", style: Style = _plain) -> str:
+    """The table people read: one row per line, then the findings of every line that is
+    not a clean pass (with waivers and their reasons), then the summary."""
+    results = answer["results"]
+    rows = [(_number(result, position), _clip(result["ref"], MAX_REF_WIDTH), result["verdict"],
+             _summary_cell(result)) for position, result in enumerate(results, start=1)]
+    widths = [max([len(header)] + [len(row[index]) for row in rows])
+              for index, header in enumerate(("line", "ref", "verdict"))]
+    out = [f"plugfit validate {source}", "",
+           f"{'line':<{widths[0]}}  {'ref':<{widths[1]}}  {'verdict':<{widths[2]}}  findings"]
+    for label, ref, verdict, cell in rows:
+        word = verdict.upper() if verdict in ("fail", "invalid") else verdict
+        shown = style(word, fg=VERDICT_COLOURS[verdict]) + " " * (widths[2] - len(word))
+        out.append(f"{label:<{widths[0]}}  {ref:<{widths[1]}}  {shown}  {cell}".rstrip())
+    details = _details(results, style)
+    if details:
+        out += ["", "Details", *details]
+    out += ["", _summary_line(answer["summary"], fail_on, style)]
+    return "\n".join(out) + "\n"
+
+
+def _details(results: list[dict[str, Any]], style: Style) -> list[str]:
+    out: list[str] = []
+    for position, result in enumerate(results, start=1):
+        shown, waived = _shown(result), list(_waived(result))
+        if result["verdict"] == "pass" and not waived:
+            continue
+        verdict = result["verdict"]
+        out.append(f"  {_label(result, position)}  {result['ref']}  "
+                   f"{style(verdict.upper(), fg=VERDICT_COLOURS[verdict], bold=True)}")
+        if verdict == "invalid":
+            out += [f"      {line}" for line in error_lines(result.get("errors", {}))]
+        for finding in shown:
+            out.append(f"      {finding['severity']:<5} {_finding_label(finding)}: {finding['message']}")
+        for waiver, finding in waived:
+            out.append(f"      waived {finding['code']} (reason: {waiver['reason']}): {finding['message']}")
+    return out
+
+
+def _summary_line(summary: dict[str, Any], fail_on: str, style: Style) -> str:
+    verdict = summary["verdict"]
+    if fail_on == "warn" and verdict == "warn":
+        verdict = "fail"
+    policy = " (warnings fail: --fail-on warn)" if fail_on == "warn" else ""
+    return (f"{summary['total']} lines: {summary['pass']} pass, {summary['warn']} warn, {summary['fail']} fail, "
+            f"{summary['invalid']} invalid: {style(verdict.upper(), fg=VERDICT_COLOURS[verdict], bold=True)}"
+            f"{policy}")
+
+
+# --- JUnit XML ------------------------------------------------------------------------------
+
+
+def _testcase_name(result: dict[str, Any], position: int) -> str:
+    label = _label(result, position)
+    own_label = str(result.get("line", position))
+    return label if result["ref"] == own_label else f"{label}: {result['ref']}"
+
+
+def _findings_text(result: dict[str, Any]) -> str:
+    lines = [f"{finding['severity']} {_finding_label(finding)}: {finding['message']}"
+             for finding in _shown(result)]
+    lines += [f"waived {finding['code']} (reason: {waiver['reason']}): {finding['message']}"
+              for waiver, finding in _waived(result)]
+    return "\n".join(lines)
+
+
+def junit_report(answer: dict[str, Any], source: str, fail_on: str = "fail",
+                 properties: dict[str, str] | None = None) -> str:
+    """JUnit XML: one test case per line of the build list.
+
+    A line that fails (or warns, with `--fail-on warn`) is a `<failure>` carrying its
+    findings; a line that cannot be read (verdict invalid) is an `<error>`: the check
+    could not run at all. Warnings that do not fail and waived findings go to the test
+    case's `<system-out>`.
+    """
+    failing = failing_verdicts(fail_on)
+    results = answer["results"]
+    name = PurePath(source).name or source
+    classname = PurePath(source).stem or "build-list"
+    failures = sum(1 for r in results if r["verdict"] in failing and r["verdict"] != "invalid")
+    errors = sum(1 for r in results if r["verdict"] == "invalid")
+    counts = {"tests": str(len(results)), "failures": str(failures), "errors": str(errors), "skipped": "0"}
+    suites = ET.Element("testsuites", {"name": "plugfit validate", **counts})
+    suite = ET.SubElement(suites, "testsuite", {"name": name, **counts, "time": "0"})
+    if properties:
+        props = ET.SubElement(suite, "properties")
+        for key, value in properties.items():
+            ET.SubElement(props, "property", {"name": key, "value": value})
+    for position, result in enumerate(results, start=1):
+        attributes = {"classname": classname, "name": _testcase_name(result, position), "time": "0", "file": source}
+        if "line" in result:
+            attributes["line"] = str(result["line"])
+        case = ET.SubElement(suite, "testcase", attributes)
+        verdict = result["verdict"]
+        if verdict == "invalid":
+            lines = error_lines(result.get("errors", {}))
+            element = ET.SubElement(case, "error", {"type": "invalid",
+                                                    "message": lines[0] if lines else "cannot be read"})
+            element.text = "\n".join(lines)
+            continue
+        text = _findings_text(result)
+        if verdict in failing:
+            worst = [f for f in _shown(result) if f["severity"] == verdict] or _shown(result)
+            message = f"{_finding_label(worst[0])}: {worst[0]['message']}" if worst else verdict
+            element = ET.SubElement(case, "failure", {"type": verdict, "message": message})
+            element.text = text
+        elif text:
+            ET.SubElement(case, "system-out").text = text
+    ET.indent(suites)
+    return '<?xml version="1.0" encoding="UTF-8"?>\n' + ET.tostring(suites, encoding="unicode") + "\n"
+
+
+# --- one check ------------------------------------------------------------------------------
+
+_GEOMETRY_LABELS = {"thread_protrusion": "thread protrusion", "thread_recess": "thread recess (long side)",
+                    "tip_position": "tip position", "piston_margin": "piston margin", "valve_margin": "valve margin"}
+
+
+def result_text(document: dict[str, Any], style: Style = _plain) -> str:
+    """One result document, readable: verdict, findings, geometry, torque, assumptions."""
+    verdict = document["verdict"]
+    out = [f"{document['thread']}: {style(verdict.upper(), fg=VERDICT_COLOURS[verdict], bold=True)}", ""]
+    if document["findings"]:
+        out.append("Findings")
+        for finding in document["findings"]:
+            out.append(f"  {finding['severity']:<5} {_finding_label(finding)}: {finding['message']}")
+        out.append("")
+    for waiver, finding in _waived(document):
+        out.append(f"  waived {finding['code']} (reason: {waiver['reason']}): {finding['message']}")
+    geometry = document.get("geometry") or {}
+    if geometry:
+        unit = next(iter(geometry.values()))["unit"]
+        out.append(f"Geometry ({unit}; along the plug axis, positive into the chamber)")
+        out.append(f"  {'':<26}{'nominal':>9}{'min':>9}{'max':>9}{'rss_min':>9}{'rss_max':>9}")
+        for name, entry in geometry.items():
+            numbers = "".join(f"{entry[key]:>9.4g}" for key in ("nominal", "min", "max", "rss_min", "rss_max"))
+            out.append(f"  {_GEOMETRY_LABELS.get(name, name):<26}{numbers}")
+        out.append("")
+    for check, quantities in (document.get("analysis") or {}).items():
+        shown = ", ".join(f"{name} {q['value']:g} {q['unit']}".rstrip() for name, q in quantities.items())
+        out.append(f"Analysis, {check}: {shown}")
+    torque = document.get("torque")
+    if torque:
+        turn = f", or {torque['turn_angle_deg']:g} deg past finger-tight" if torque.get("turn_angle_deg") else ""
+        out.append(f"Torque guidance: {torque['min']:g} to {torque['max']:g} {torque['unit']}{turn} "
+                   f"({torque['source']})")
+    if document.get("assumptions"):
+        out += ["", "Assumptions", *(f"  - {text}" for text in document["assumptions"])]
+    if document.get("cautions"):
+        out += ["", "Cautions", *(f"  - {text}" for text in document["cautions"])]
+    return "\n".join(out) + "\n"
