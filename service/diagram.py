@@ -146,24 +146,24 @@ _DEFS = """<defs>
 </defs>"""
 
 
-def _symbol(svg: _Svg, severity: str, x: float, y: float, size: float = 7.0) -> None:
+def _symbol(svg: _Svg, severity: str, x: float, y: float, mark: str, size: float = 8.0) -> None:
+    """A severity symbol told apart by shape, not colour: a filled triangle (fail), an open
+    diamond (warn), a dotted circle (info); `mark` (the finding's number) inside."""
     style = SEVERITY_STYLE[severity]
     colour = style["colour"]
+    text_colour = colour
     if style["symbol"] == "triangle":
-        points = f"{x:.2f},{y - size:.2f} {x + size:.2f},{y + size * 0.8:.2f} {x - size:.2f},{y + size * 0.8:.2f}"
+        points = f"{x:.2f},{y - size * 1.1:.2f} {x + size:.2f},{y + size * 0.75:.2f} {x - size:.2f},{y + size * 0.75:.2f}"
         svg.element("polygon", points=points, fill=colour, stroke="#000", stroke_width=1.0)
-        svg.element("text", "!", x=x, y=y + size * 0.55, font_size=9, font_weight="bold",
-                    text_anchor="middle", fill="#fff", font_family="sans-serif")
+        text_colour = "#fff"
     elif style["symbol"] == "diamond":
         points = f"{x:.2f},{y - size:.2f} {x + size:.2f},{y:.2f} {x:.2f},{y + size:.2f} {x - size:.2f},{y:.2f}"
         svg.element("polygon", points=points, fill="#fff", stroke=colour, stroke_width=2.2)
-        svg.element("text", "W", x=x, y=y + 3.2, font_size=8, font_weight="bold",
-                    text_anchor="middle", fill=colour, font_family="sans-serif")
     else:
-        svg.element("circle", cx=x, cy=y, r=size * 0.85, fill="#fff", stroke=colour, stroke_width=1.6,
+        svg.element("circle", cx=x, cy=y, r=size * 0.9, fill="#fff", stroke=colour, stroke_width=1.6,
                     stroke_dasharray="2 1.5")
-        svg.element("text", "i", x=x, y=y + 3.2, font_size=8, font_weight="bold",
-                    text_anchor="middle", fill=colour, font_family="serif")
+    svg.element("text", mark, x=x, y=y + 3.4, font_size=9, font_weight="bold", text_anchor="middle",
+                fill=text_colour, font_family="sans-serif")
 
 
 def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str = "metric",
@@ -198,7 +198,7 @@ def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str
     drawing_bottom = y(bottom_mm)
     findings = list(result.findings)
     legend_rows = _legend_rows(findings, [f["message"] for f in result_document(result, units)["findings"]])
-    legend_height = sum(20.0 + 13.0 * len(lines) for _, _, lines in legend_rows)
+    legend_height = sum(20.0 + 13.0 * len(lines) for _, _, _, lines in legend_rows)
     height = drawing_bottom + 60.0 + legend_height + 50.0
 
     svg = _Svg()
@@ -340,7 +340,7 @@ def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str
 
     # --- finding markers on the drawing ---
     marker_offsets: dict[str, int] = {}
-    for finding in findings:
+    for number, finding in enumerate(_listed(findings), start=1):
         if finding.code == "NOT_CHECKED":
             continue
         anchor = CHECK_ANCHORS.get(finding.check)
@@ -348,12 +348,12 @@ def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str
             anchor = "seat_face"
         count = marker_offsets.get(anchor, 0)
         marker_offsets[anchor] = count + 1
-        mx, my = x(-half_width_mm) - 18.0 + 0 * count, y(anchors[anchor]) + 16.0 * count
+        mx, my = x(-half_width_mm) - 18.0, y(anchors[anchor]) + 19.0 * count
         my = min(max(my, DRAWING_TOP_PX), drawing_bottom)
         svg.element("line", x1=mx + 8, y1=my, x2=x(-radius), y2=y(anchors[anchor]),
                     stroke=SEVERITY_STYLE[finding.severity]["colour"], stroke_width=1.2,
                     stroke_dasharray=SEVERITY_STYLE[finding.severity]["dash"] or None)
-        _symbol(svg, finding.severity, mx, my)
+        _symbol(svg, finding.severity, mx, my, str(number))
 
     # --- scale bar ---
     bar_mm = 5.0 if units == "metric" else MM_PER_INCH / 4.0
@@ -365,10 +365,10 @@ def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str
     # --- legend ---
     ly = drawing_bottom + 52.0
     svg.element("text", "Findings", x=40, y=ly, font_size=13, font_weight="bold", fill="#111")
-    for severity, heading, lines in legend_rows:
+    for mark, severity, heading, lines in legend_rows:
         ly += 20.0
         if severity in SEVERITY_STYLE:
-            _symbol(svg, severity, 50.0, ly - 4.0, size=6.0)
+            _symbol(svg, severity, 50.0, ly - 4.0, mark, size=7.5)
         svg.element("text", heading, x=66, y=ly, font_size=11.5, fill="#111", font_weight="bold")
         for line in lines:
             ly += 13.0
@@ -540,20 +540,27 @@ def _dimensions(result: FitResult, layout: AxialLayout, units: str) -> list[tupl
     return dims
 
 
-def _legend_rows(findings: list[Finding], messages: list[str]) -> list[tuple[str, str, list[str]]]:
-    """(severity, heading, wrapped message lines) per finding; skipped checks on one row."""
-    rows: list[tuple[str, str, list[str]]] = []
-    for finding, message in zip(findings, messages):
-        if finding.code != "NOT_CHECKED" or finding.severity != "info":
-            label = SEVERITY_STYLE[finding.severity]["label"]
-            rows.append((finding.severity, f"{label}  {finding.code}  ({finding.check.replace('_', ' ')})",
-                         textwrap.wrap(message, LEGEND_WRAP_CHARS)))
+def _listed(findings: list[Finding]) -> list[Finding]:
+    """The findings the legend lists one by one (and numbers): all but plain NOT_CHECKED."""
+    return [f for f in findings if f.code != "NOT_CHECKED" or f.severity != "info"]
+
+
+def _legend_rows(findings: list[Finding], messages: list[str]) -> list[tuple[str, str, str, list[str]]]:
+    """(mark, severity, heading, wrapped message lines) per listed finding, numbered as on
+    the drawing; the checks skipped for lack of data share one row."""
+    message_of = {id(finding): message for finding, message in zip(findings, messages)}
+    rows: list[tuple[str, str, str, list[str]]] = []
+    for number, finding in enumerate(_listed(findings), start=1):
+        label = SEVERITY_STYLE[finding.severity]["label"]
+        rows.append((str(number), finding.severity,
+                     f"{label}  {finding.code}  ({finding.check.replace('_', ' ')})",
+                     textwrap.wrap(message_of[id(finding)], LEGEND_WRAP_CHARS)))
     skipped = sorted({f.check.replace("_", " ") for f in findings
                       if f.code == "NOT_CHECKED" and f.severity == "info"})
     if skipped:
-        rows.append(("info", "INFO  not checked for lack of data",
+        rows.append(("i", "info", "INFO  not checked for lack of data",
                      textwrap.wrap(", ".join(skipped) + " (the result's findings say what each one needs)",
                                    LEGEND_WRAP_CHARS)))
     if not rows:
-        rows.append(("", "No findings: every check that had its data passed.", []))
+        rows.append(("", "", "No findings: every check that had its data passed.", []))
     return rows

@@ -9,6 +9,7 @@ README's table of finding codes.
 """
 from __future__ import annotations
 
+import math
 from typing import Callable
 
 from .context import FitContext
@@ -240,9 +241,6 @@ def check_thread_strength(ctx: FitContext) -> None:
             return
         torque = guide.max_nm
         ctx.assume("thread strength: no planned torque: the top of the recommended range is used")
-    if torque <= 0.0:
-        ctx.not_checked("thread_strength", "a planned torque of zero puts no preload on the thread")
-        return
     if port.material is None:
         ctx.assume("thread strength: head material not given: aluminium (the weaker) is assumed")
     if options.lubrication is None:
@@ -270,6 +268,9 @@ def check_thread_strength(ctx: FitContext) -> None:
               "strip_strength": (result.strip_strength_n, "force"),
               "safety_factor": (result.safety_factor, "ratio"),
               "min_safety_factor": (result.min_safety_factor, "ratio")}
+    if not math.isfinite(result.safety_factor):  # a planned torque of (nearly) zero and no gas load
+        ctx.not_checked("thread_strength", "the planned torque puts practically no load on the thread")
+        return
     ctx.analysis["thread_strength"] = values
     if result.at_risk:
         ctx.add("THREAD_STRIP_RISK", "thread_strength", "warn",
