@@ -65,12 +65,14 @@ def _cells(values: dict[str, Any]) -> dict[str, str]:
               help="json: the result document.")
 @click.option("--units", type=click.Choice(["metric", "imperial"]), default="metric", show_default=True)
 @click.option("--fail-on", type=click.Choice(["fail", "warn"]), default="fail", show_default=True)
+@click.option("--svg", "svg_file", type=click.Path(dir_okay=False, writable=True), metavar="FILE",
+              help="Also write the fit as a to-scale SVG drawing (the same as POST /v1/fit-checks/diagram).")
 @click.option("--inventory", multiple=True, type=click.Path(exists=True, dir_okay=False), metavar="FILE",
               help="Plugs/heads for --sku and --head-id (inventory CSV export or JSON lines). "
               "Default: the local database, if migrated.")
 @_field_options
-def command(request_file: str | None, output_format: str, units: str, fail_on: str, inventory: tuple[str, ...],
-            **values: Any) -> None:
+def command(request_file: str | None, output_format: str, units: str, fail_on: str, svg_file: str | None,
+            inventory: tuple[str, ...], **values: Any) -> None:
     """Check one plug in one head port and print the verdict, findings and geometry.
 
     Give the plug inline (--plug-thread, --plug-seat, --plug-reach, ...) or as --sku, and
@@ -108,6 +110,11 @@ def command(request_file: str | None, output_format: str, units: str, fail_on: s
     if result["verdict"] == "invalid":
         lines = [line if request_file else _as_option(line) for line in error_lines(result["errors"])]
         fail("the request cannot be used:\n  " + "\n  ".join(lines), EXIT_UNUSABLE)
+    if svg_file:
+        from service.diagram import render_request_svg
+
+        drawing = render_request_svg(items[0].request, load_catalog(), plugs.get, heads.get, units)
+        Path(svg_file).write_text(drawing, encoding="utf-8")
     document = {key: value for key, value in result.items() if key not in ("ref", "line", "waivers")}
     if output_format == "json":
         import json
