@@ -185,8 +185,6 @@ def test_every_readme_curl_example_answers_the_status_it_shows(server):
             f"README.md line {example.line}: answered {status}, the README shows {example.expected_status}")
 
 
-@pytest.mark.xfail(strict=False, reason="the contract also covers /v1/fit-checks/batch, fitting-plugs, "
-                   "interchanges, imports and exports, which other issues build; passes once they exist")
 def test_the_running_service_conforms_to_the_shared_contract_check(server):
     if not CONTRACT_CHECK.is_file():
         pytest.skip(f"{CONTRACT_CHECK} is absent (the shared conformance checker sits beside the repository)")
