@@ -4,6 +4,10 @@ its test client, a CLI runner bound to it, and an API key.
 Migrating takes a few hundred milliseconds, so the suite migrates one template database
 per session and each test gets a copy of that file (the copy is still produced by
 Alembic, never by create_all).
+
+With PLUGFIT_TEST_POSTGRES_URL set (see tests/postgres.py, `make test-postgres`) the same
+fixtures give every test the same PostgreSQL scratch database instead, migrated once
+per session and emptied before each test.
 """
 from __future__ import annotations
 
@@ -20,6 +24,7 @@ from flask.testing import FlaskClient
 
 from service import create_app, db
 from service.auth import create_key
+from tests import postgres
 
 
 @pytest.fixture(autouse=True)
@@ -37,11 +42,71 @@ def migrated_template(tmp_path_factory: pytest.TempPathFactory) -> Path:
     return path
 
 
+@pytest.fixture(scope="session")
+def postgres_database() -> Iterator[tuple[str, postgres.Emptier] | None]:
+    """The session's migrated PostgreSQL scratch database, or None when running on SQLite."""
+    server = postgres.server_url()
+    if server is None:
+        yield None
+        return
+    url = postgres.create_scratch_database(server)
+    try:
+        db.upgrade(url)
+        emptier = postgres.Emptier(url, postgres.data_tables(url))
+        yield url, emptier
+        emptier.dispose()
+    finally:
+        postgres.drop_database(url)
+
+
 @pytest.fixture
-def database_url(tmp_path: Path, migrated_template: Path) -> str:
+def database_url(request: pytest.FixtureRequest, tmp_path: Path) -> str:
+    """A migrated database holding nothing: a copy of the SQLite template, or the
+    PostgreSQL scratch database just emptied."""
+    on_postgres = request.getfixturevalue("postgres_database")
+    if on_postgres is not None:
+        url, emptier = on_postgres
+        emptier.empty()
+        return url
     path = tmp_path / "plugfit.db"
-    shutil.copyfile(migrated_template, path)
+    shutil.copyfile(request.getfixturevalue("migrated_template"), path)
     return f"sqlite:///{path}"
+
+
+@pytest.fixture
+def empty_database_url(tmp_path: Path) -> Iterator[str]:
+    """A database never migrated, for tests of the migrations themselves."""
+    server = postgres.server_url()
+    if server is None:
+        yield f"sqlite:///{tmp_path / 'empty.db'}"
+        return
+    url = postgres.create_scratch_database(server)
+    try:
+        yield url
+    finally:
+        postgres.drop_database(url)
+
+
+@pytest.fixture(autouse=True)
+def _dispose_engines(monkeypatch: pytest.MonkeyPatch) -> Iterator[None]:
+    """Close the connection pools of every engine a test made: an app a test builds
+    itself would otherwise keep PostgreSQL connections until garbage collection."""
+    made = []
+    original = db.make_engine
+
+    def tracked(url: str):
+        engine = original(url)
+        made.append(engine)
+        return engine
+
+    monkeypatch.setattr(db, "make_engine", tracked)
+    yield
+    for engine in made:
+        engine.dispose()
+
+
+def on_sqlite(url: str) -> bool:
+    return url.startswith("sqlite")
 
 
 @pytest.fixture

@@ -1,4 +1,5 @@
-"""Alembic migrations on SQLite: empty → head → empty, and the models match head."""
+"""Alembic migrations on SQLite (and PostgreSQL under PLUGFIT_TEST_POSTGRES_URL): empty →
+head → empty, and the models match head."""
 from __future__ import annotations
 
 from alembic.autogenerate import compare_metadata
@@ -22,8 +23,8 @@ def tables(url: str) -> set[str]:
         engine.dispose()
 
 
-def test_upgrade_from_empty_to_head_then_downgrade_back_to_empty(tmp_path):
-    url = f"sqlite:///{tmp_path / 'm.db'}"
+def test_upgrade_from_empty_to_head_then_downgrade_back_to_empty(empty_database_url):
+    url = empty_database_url  # SQLite, or PostgreSQL under PLUGFIT_TEST_POSTGRES_URL
     assert db.current_revision(url) is None
     db.upgrade(url)
     assert db.current_revision(url) == head_revision()
@@ -54,8 +55,8 @@ def test_plugs_are_indexed_on_thread_and_seat_for_the_fitting_search(database_ur
     assert indexes["ix_plugs_thread_seat"] == ["thread", "seat"]
 
 
-def test_sqlite_connections_use_wal_and_enforce_foreign_keys(database_url):
-    engine = db.make_engine(database_url)
+def test_sqlite_connections_use_wal_and_enforce_foreign_keys(tmp_path):
+    engine = db.make_engine(f"sqlite:///{tmp_path / 'pragmas.db'}")
     try:
         with engine.connect() as connection:
             assert connection.execute(text("PRAGMA journal_mode")).scalar() == "wal"
