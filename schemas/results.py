@@ -11,6 +11,8 @@ from typing import Any
 
 from marshmallow import Schema, fields, validate
 
+from service.fitment.checks import CHECK_NAMES
+from service.fitment.codes import FINDING_CODES
 from service.fitment.model import Bounds, FitResult
 from service.units import from_canonical, output_unit
 
@@ -34,8 +36,9 @@ class QuantitySchema(Schema):
 
 
 class FindingSchema(Schema):
-    code = fields.String(required=True, metadata={"example": "REACH_LONG"})
-    check = fields.String(required=True, metadata={"example": "reach"})
+    code = fields.String(required=True, validate=validate.OneOf(tuple(FINDING_CODES)), metadata={
+        "example": "REACH_LONG", "description": "stable; clients switch on it (README: Finding codes)"})
+    check = fields.String(required=True, validate=validate.OneOf(CHECK_NAMES), metadata={"example": "reach"})
     severity = fields.String(required=True, validate=validate.OneOf(SEVERITIES))
     message = fields.String(required=True)
     values = fields.Dict(keys=fields.String(), values=fields.Nested(QuantitySchema), required=True)

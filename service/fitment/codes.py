@@ -1,0 +1,22 @@
+"""The finding codes clients switch on: stable names, each with the check that raises it
+and its severity. The OpenAPI document's enum and the README's table are tested against
+this list, so a new check cannot ship an undocumented code."""
+from __future__ import annotations
+
+FINDING_CODES: dict[str, tuple[str, str]] = {
+    "THREAD_MISMATCH": ("thread", "fail"),
+    "SEAT_MISMATCH": ("seat", "fail"),
+    "REACH_LONG": ("reach", "warn"),
+    "REACH_SHORT": ("reach", "warn"),
+    "PISTON_CONTACT": ("piston", "fail"),
+    "VALVE_CONTACT": ("valve", "fail"),
+    "TOOL_CLEARANCE": ("tool_clearance", "fail"),
+    "HEX_DIFFERS": ("hex", "info"),
+    "RESISTOR_REQUIRED": ("resistor", "warn"),
+    "TORQUE_OUT_OF_RANGE": ("torque", "warn"),
+    "THREAD_STRIP_RISK": ("thread_strength", "warn"),
+    "GAP_VOLTAGE_MARGIN": ("gap_voltage", "warn"),
+    "HEAT_RANGE_OUT_OF_BAND": ("heat_range", "warn"),
+    "BOOT_ENGAGEMENT": ("boot", "warn"),
+    "NOT_CHECKED": ("any", "info"),
+}

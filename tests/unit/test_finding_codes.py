@@ -1,0 +1,38 @@
+"""The finding codes are a contract: every code the checks can raise is registered,
+documented in the README's table and in the OpenAPI enum, with the same severity."""
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+from schemas.results import FindingSchema
+from service.fitment.checks import CHECK_NAMES
+from service.fitment.codes import FINDING_CODES
+
+REPO = Path(__file__).resolve().parents[2]
+
+
+def _readme_table() -> dict[str, tuple[str, str]]:
+    text = (REPO / "README.md").read_text()
+    section = text[text.index("## Finding codes"):]
+    section = section[:section.index("\n## ", 3)]
+    rows = re.findall(r"^\| `([A-Z_]+)` \| ([a-z_]+) \| ([a-z]+)", section, re.M)
+    return {code: (check, severity) for code, check, severity in rows}
+
+
+def test_every_code_the_checks_raise_is_registered():
+    source = (REPO / "service" / "fitment" / "checks.py").read_text()
+    raised = set(re.findall(r'"([A-Z]+(?:_[A-Z]+)+)"', source))
+    assert raised <= set(FINDING_CODES), raised - set(FINDING_CODES)
+
+
+def test_the_readme_table_lists_every_registered_code_with_its_check_and_severity():
+    assert _readme_table() == FINDING_CODES
+
+
+def test_the_openapi_enum_is_the_registry():
+    assert set(FindingSchema().fields["code"].validate.choices) == set(FINDING_CODES)
+
+
+def test_each_registered_code_names_a_real_check():
+    assert {check for check, _ in FINDING_CODES.values()} - {"any"} <= set(CHECK_NAMES)
