@@ -15,7 +15,7 @@ import os
 import shutil
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Iterator
+from typing import Callable, Iterator
 
 import pytest
 from click.testing import CliRunner, Result
@@ -73,18 +73,28 @@ def database_url(request: pytest.FixtureRequest, tmp_path: Path) -> str:
     return f"sqlite:///{path}"
 
 
-@pytest.fixture
-def empty_database_url(tmp_path: Path) -> Iterator[str]:
-    """A database never migrated, for tests of the migrations themselves."""
+@pytest.fixture(scope="session")
+def make_empty_database(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Callable[[], str]]:
+    """Makes databases never migrated (a server process under test migrates its own):
+    SQLite files, or PostgreSQL scratch databases dropped when the session ends."""
     server = postgres.server_url()
-    if server is None:
-        yield f"sqlite:///{tmp_path / 'empty.db'}"
-        return
-    url = postgres.create_scratch_database(server)
-    try:
-        yield url
-    finally:
+    made: list[str] = []
+
+    def make() -> str:
+        if server is None:
+            return f"sqlite:///{tmp_path_factory.mktemp('database') / 'plugfit.db'}"
+        made.append(postgres.create_scratch_database(server))
+        return made[-1]
+
+    yield make
+    for url in made:
         postgres.drop_database(url)
+
+
+@pytest.fixture
+def empty_database_url(make_empty_database: Callable[[], str]) -> str:
+    """A database never migrated, for tests of the migrations themselves."""
+    return make_empty_database()
 
 
 @pytest.fixture(autouse=True)
@@ -103,10 +113,6 @@ def _dispose_engines(monkeypatch: pytest.MonkeyPatch) -> Iterator[None]:
     yield
     for engine in made:
         engine.dispose()
-
-
-def on_sqlite(url: str) -> bool:
-    return url.startswith("sqlite")
 
 
 @pytest.fixture

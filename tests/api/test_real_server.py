@@ -1,5 +1,5 @@
 """Against a real server process over HTTP: `plugfit serve` (gunicorn) on a free port
-with a temporary SQLite database.
+with a temporary SQLite database (PostgreSQL under PLUGFIT_TEST_POSTGRES_URL).
 
 - a round trip with `requests`;
 - every `curl` example in README.md, run by curl itself, must answer the status written
@@ -52,10 +52,10 @@ def plugfit(*args: str, env: dict[str, str]) -> subprocess.CompletedProcess:
 
 
 @pytest.fixture(scope="module")
-def server(tmp_path_factory) -> Server:
+def server(tmp_path_factory, make_empty_database) -> Server:
     directory = tmp_path_factory.mktemp("server")
     env = {key: value for key, value in os.environ.items() if not key.startswith("PLUGFIT_")}
-    env["PLUGFIT_DATABASE_URL"] = f"sqlite:///{directory / 'plugfit.db'}"
+    env["PLUGFIT_DATABASE_URL"] = make_empty_database()  # SQLite, or PostgreSQL under PLUGFIT_TEST_POSTGRES_URL
     upgraded = plugfit("db", "upgrade", env=env)
     assert upgraded.returncode == 0, upgraded.stderr
     created = plugfit("keys", "create", "real-server-test", env=env)
