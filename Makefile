@@ -11,8 +11,11 @@ BIN    := $(VENV)/bin
 STAMP  := $(VENV)/.installed
 HOST   ?= 127.0.0.1
 PORT   ?= 8000
+# The PostgreSQL server of the second test run (needs CREATE DATABASE rights; the run
+# makes and drops a scratch database of its own). REQUIRE_POSTGRES=1 makes its absence fatal.
+POSTGRES_URL ?= postgresql+psycopg://postgres@127.0.0.1:5432/postgres
 
-.PHONY: run test venv migrate seed serve
+.PHONY: run test test-sqlite test-postgres venv migrate seed serve bench-load
 
 ## Set up the virtual environment (again only when pyproject.toml changed).
 venv: $(STAMP)
@@ -36,6 +39,25 @@ seed: venv
 serve: venv
 	$(BIN)/plugfit serve --host $(HOST) --port $(PORT)
 
-## The whole test suite.
-test: venv
+## The whole test suite on SQLite, then the database layers again on PostgreSQL when a
+## server answers at POSTGRES_URL (otherwise it says clearly that this part was skipped).
+test: test-sqlite
+	@if $(BIN)/python -m tests.postgres reachable '$(POSTGRES_URL)'; then \
+	  $(MAKE) --no-print-directory test-postgres; \
+	elif [ -n "$(REQUIRE_POSTGRES)" ]; then \
+	  echo "FAILED: REQUIRE_POSTGRES is set but no PostgreSQL answers at $(POSTGRES_URL)" >&2; exit 1; \
+	else \
+	  echo; echo "*** PostgreSQL part SKIPPED: no server answers at $(POSTGRES_URL)."; \
+	  echo "*** Only SQLite was tested. Set POSTGRES_URL=postgresql+psycopg://USER@HOST:PORT/DB to include it."; \
+	fi
+
+test-sqlite: venv
 	$(BIN)/python -m pytest
+
+## The database layers (tests/integration, tests/api, real servers included) on PostgreSQL.
+test-postgres: venv
+	PLUGFIT_TEST_POSTGRES_URL='$(POSTGRES_URL)' $(BIN)/python -m pytest tests/integration tests/api
+
+## Load benchmark over loopback (see benchmarks/bench_load.py; uses wrk when installed).
+bench-load: venv
+	$(BIN)/python benchmarks/bench_load.py
