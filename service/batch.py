@@ -7,9 +7,10 @@ answer for the same list. One bad item never spoils the batch: it becomes an
 Why the caches: a build list of 10,000 lines repeats the same few dozen heads and a
 few hundred plugs, and marshmallow needs ~70 µs to load a plug and more for a head.
 Sub-documents (plug, head, options) are therefore loaded once per distinct input
-(keyed by their exact JSON text) and a check is run once per distinct (plug, head,
-options) triple; the engine is pure, so a repeated check is the same answer. Both
-caches live for one batch only.
+(keyed by their exact text, or by identity when the CSV reader shares one
+sub-document among lines) and a check is run once per distinct (plug, head, options)
+triple; the engine is pure, so a repeated check is the same answer. The caches live
+for one batch only.
 
 Pure: no Flask, no database. References are looked up through `fetch_references`,
 given all distinct skus and head_ids at once, so the caller can use one query each.
@@ -17,6 +18,7 @@ given all distinct skus and head_ids at once, so the caller can use one query ea
 from __future__ import annotations
 
 import json
+from json.encoder import encode_basestring_ascii as _json_string
 from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any, Callable, Iterable, Mapping
@@ -113,10 +115,16 @@ class ItemLoader:
         self._fields = schema.fields
         self._schemas = {name: schema.fields[name].schema for name in self.PARTS}
         self._cache: dict[str, dict[str, tuple[dict | None, Any]]] = {name: {} for name in self.PARTS}
+        self._by_identity: dict[tuple[str, int], tuple[Any, tuple[dict | None, Any]]] = {}
         self._require = frozenset(require)
         self._with_require: dict[int, dict] = {}
 
     def _part(self, name: str, document: Any) -> tuple[dict | None, Any]:
+        # A CSV list shares one sub-document among the lines that repeat it: found by
+        # identity first (the entry keeps the document alive, so its id stays its own).
+        shared = self._by_identity.get((name, id(document)))
+        if shared is not None and shared[0] is document:
+            return shared[1]
         key = _key(document)
         cache = self._cache[name]
         hit = cache.get(key)
@@ -126,6 +134,7 @@ class ItemLoader:
             except ValidationError as exc:
                 hit = (None, exc.messages)
             cache[key] = hit
+        self._by_identity[(name, id(document))] = (document, hit)
         return hit
 
     def _options(self, loaded: dict) -> dict:
@@ -283,8 +292,12 @@ class BatchAnswer:
             body = encoded.get(id(document))
             if body is None:
                 body = encoded[id(document)] = encode(document)[1:-1]
-            parts.append(encode(own)[:-1])
-            parts.append("," + body + ',"waivers":[]}' if body else ',"waivers":[]}')
+            # The own members of a checked item are its ref (a string) and, for CSV, its
+            # line (an int): written directly, a JSONEncoder call per item costs more.
+            parts.append('{"ref":' + _json_string(own["ref"]))
+            if "line" in own:
+                parts.append(',"line":' + str(int(own["line"])))
+            parts.append("," + body + ',"waivers":[]}')
         parts.append("]}")
         return "".join(parts)
 

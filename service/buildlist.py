@@ -42,7 +42,7 @@ from marshmallow import Schema, ValidationError, fields
 from schemas.batch import BatchRequestSchema
 from schemas.fields import Length, Quantity
 from schemas.specs import HeadInputSchema, OptionsSchema, PlugInputSchema
-from service.units import UnitError, parse_quantity
+from service.units import KINDS, UnitError, parse_quantity
 
 CSV_MEDIA_TYPES = frozenset({"text/csv", "application/csv"})
 # Columns that are not fields: the line's label, free text, and its waivers.
@@ -192,6 +192,8 @@ _LIST_SEPARATORS = re.compile(r"[,;\s]+")
 
 def _toleranced(text: str, header_unit: str | None) -> dict[str, Any] | None:
     """`19 ± 0.2`, `0.75 in +0.004/-0.002` as the schema's object form; None if neither."""
+    if "±" not in text and "+" not in text:  # most cells: no tolerance, no regex
+        return None
     match = _SYMMETRIC.match(text) or _ASYMMETRIC.match(text)
     if match is None:
         return None
@@ -281,6 +283,8 @@ def _temperature_reader(unit: str) -> Callable[[str], Any]:
 def _header_unit(suffix: str, kind: str) -> tuple[str, float]:
     """A header's unit suffix (`in`, `lbf_ft`, `degC`) as unit text and its factor."""
     unit = suffix.replace("_", " ").strip()
+    if unit == KINDS[kind].canonical:  # `_mm` on a length: nothing to convert, no pint to load
+        return unit, 1.0
     factor = parse_quantity(f"1 {unit}", kind)
     return unit, factor
 
@@ -390,7 +394,7 @@ def read_csv(text: str, *, max_items: int | None = None) -> list[RawItem]:
         raise BuildListError([Problem("no plug or head columns: give sku or plug_* columns, and head_id "
                                       "or head_* columns", header_line)])
     width = len(header)
-    column_of: dict[Path, str] = {column.path: column.name for column in columns if column.path is not None}
+    rows = _RowReader(columns)
     items: list[RawItem] = []
     problems: list[Problem] = []
     last_line = header_line
@@ -406,7 +410,7 @@ def read_csv(text: str, *, max_items: int | None = None) -> list[RawItem]:
                 continue
             if max_items is not None and len(items) >= max_items:
                 raise TooManyItems(max_items)
-            items.append(_row_item(len(items) + 1, start, columns, cells, column_of))
+            items.append(rows.item(len(items) + 1, start, cells))
     except csv.Error as exc:
         problems.append(Problem(f"cannot read the row: {exc}", reader.line_num))
     if problems:
@@ -416,29 +420,64 @@ def read_csv(text: str, *, max_items: int | None = None) -> list[RawItem]:
     return items
 
 
-def _row_item(position: int, line: int | None, columns: list[Column], cells: list[str],
-              column_of: Mapping[Path, str]) -> RawItem:
-    data: dict[str, Any] = {"plug": {}, "head": {}}
-    cell_errors: dict[str, list[str]] = {}
-    for column, cell in zip(columns, cells):
-        text = cell.strip()
-        if not text or column.path is None:
-            continue
-        try:
-            _set(data, column.path, column.read(text))
-        except ValueError as exc:
-            cell_errors.setdefault(column.name, []).append(str(exc))
-    if line is not None:
-        data.setdefault("ref", str(line))
-    return RawItem(position, data, line, cell_errors, column_of)
+class _RowReader:
+    """Turns rows into items. Build lists repeat the same plug and head cells on many
+    lines, so each group of cells (plug, head, options) is read once per distinct
+    content and the resulting sub-document is shared (read-only) by every line that
+    repeats it; `service.batch` then loads it once, by identity."""
+
+    GROUPS = ("plug", "head", "options")
+
+    def __init__(self, columns: list[Column]) -> None:
+        self.column_of: dict[Path, str] = {c.path: c.name for c in columns if c.path is not None}
+        self.own = [(index, column) for index, column in enumerate(columns)
+                    if column.path is not None and column.path[0] not in self.GROUPS]
+        self.groups = []
+        for group in self.GROUPS:
+            members = [(index, column) for index, column in enumerate(columns)
+                       if column.path is not None and column.path[0] == group]
+            self.groups.append((group, members, {}))
+
+    def item(self, position: int, line: int | None, cells: list[str]) -> RawItem:
+        data: dict[str, Any] = {}
+        cell_errors: dict[str, list[str]] = {}
+        for group, members, cache in self.groups:
+            key = tuple(cells[index] for index, _ in members)
+            hit = cache.get(key)
+            if hit is None:
+                hit = cache[key] = self._group(members, cells)
+            document, errors = hit
+            if document or group != "options":
+                data[group] = document
+            for name, messages in errors.items():
+                cell_errors.setdefault(name, []).extend(messages)
+        for index, column in self.own:
+            text = cells[index].strip()
+            if text:
+                _set(data, column.path, column.read(text))
+        if line is not None:
+            data.setdefault("ref", str(line))
+        return RawItem(position, data, line, cell_errors, self.column_of)
+
+    @staticmethod
+    def _group(members: list[tuple[int, Column]], cells: list[str]) -> tuple[dict[str, Any], dict[str, list[str]]]:
+        document: dict[str, Any] = {}
+        errors: dict[str, list[str]] = {}
+        for index, column in members:
+            text = cells[index].strip()
+            if not text:
+                continue
+            try:
+                _set(document, column.path[1:], column.read(text))
+            except ValueError as exc:
+                errors.setdefault(column.name, []).append(str(exc))
+        return document, errors
 
 
 def item_from_cells(cells: Mapping[str, str]) -> RawItem:
     """One item from column names and cell texts, read exactly like a CSV line (what
     `plugfit check` builds from its options)."""
-    columns = _read_header(list(cells))
-    column_of = {column.path: column.name for column in columns if column.path is not None}
-    return _row_item(1, None, columns, list(cells.values()), column_of)
+    return _RowReader(_read_header(list(cells))).item(1, None, list(cells.values()))
 
 
 # --- JSON -------------------------------------------------------------------------------

@@ -137,13 +137,18 @@ def _print(answer: dict[str, Any], answer_json: str | None, source: str, output_
 
     from service import report
 
+    # json and junit hold no colour codes: color=True spares click a pass over megabytes
+    # of text looking for them; the table is coloured only on a terminal.
     if output_format == "json":
-        click.echo(answer_json if answer_json is not None else json.dumps(answer, separators=(",", ":")))
+        click.echo(answer_json if answer_json is not None else json.dumps(answer, separators=(",", ":")),
+                   color=True)
     elif output_format == "junit":
         checked = next((r for r in answer["results"] if "engine_version" in r), {})
         properties = {"mode": f"server {server}" if server else "embedded", "fail_on": fail_on, "units": units,
                       "engine_version": checked.get("engine_version", ""),
                       "catalog_version": checked.get("catalog_version", "")}
-        click.echo(report.junit_report(answer, source, fail_on, properties), nl=False)
+        click.echo(report.junit_report(answer, source, fail_on, properties), nl=False, color=True)
     else:
-        click.echo(report.text_report(answer, source, fail_on, style=click.style), nl=False)
+        on_terminal = sys.stdout.isatty()
+        text = report.text_report(answer, source, fail_on, style=click.style if on_terminal else report.plain)
+        click.echo(text, nl=False, color=on_terminal)

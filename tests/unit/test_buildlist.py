@@ -216,3 +216,14 @@ def test_comment_lines_before_the_header_are_skipped_and_lines_keep_their_number
     assert (error.problems[0].line, error.problems[0].column) == (4, "plug_reach_zz")
     items = read_csv(text.replace(",plug_reach_zz", "") + "M14,flat,M14,flat\n")
     assert items[0].line == 5
+
+
+def test_lines_that_repeat_the_same_plug_cells_share_one_plug_document_and_each_keeps_its_own_errors():
+    items = read_csv(HEADER + "a,M14,flat,19,M14,flat,17.5\nb,M14,flat,19,M14,flat,12\n"
+                     "c,M14,flat,19 in,M14,flat,17.5\nd,M14,flat,19 in,M14,flat,17.5\n")
+    assert items[0].data["plug"] is items[1].data["plug"]
+    assert items[0].data["head"] is not items[1].data["head"]
+    assert items[0].data["head"] is items[2].data["head"]
+    assert items[2].cell_errors == items[3].cell_errors == {
+        "plug_reach_mm": ["the column is in mm (see its header): write a plain number"]}
+    assert items[2].cell_errors is not items[3].cell_errors
