@@ -83,6 +83,15 @@ class Plug(Timestamped, Base):
     __table_args__ = (
         # The fitting-plugs search narrows 100,000 plugs by thread and seat first.
         Index("ix_plugs_thread_seat", "thread", "seat"),
+        # The parts counter groups candidates by design from this index alone
+        # (migration 0002; service/counter.py's ENGINE_COLUMNS, then sku and stock).
+        Index("ix_plugs_counter", "thread", "seat",
+              "reach_nominal_mm", "reach_plus_mm", "reach_minus_mm",
+              "gasket_thickness_nominal_mm", "gasket_thickness_plus_mm", "gasket_thickness_minus_mm",
+              "firing_end_nominal_mm", "firing_end_plus_mm", "firing_end_minus_mm",
+              "hex_mm", "resistor",
+              "terminal_height_nominal_mm", "terminal_height_plus_mm", "terminal_height_minus_mm",
+              "heat_range_scale", "heat_range_value", "gap_mm", "sku", "quantity_on_hand"),
     )
 
 

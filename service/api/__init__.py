@@ -19,6 +19,7 @@ BLUEPRINT_MODULES: tuple[str, ...] = (
     "service.api.diagrams",
     "service.api.batch",
     "service.api.exchange",
+    "service.api.counter",
 )
 
 

@@ -1,0 +1,197 @@
+"""The parts counter's pure rules: what a head's bounds decide, the ranking, interchanges."""
+from __future__ import annotations
+
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from service.fitment import check_fit
+from service.fitment.counter import (FAIL, PASS, WARN, RankKey, classify, fit_bounds, rank, rank_key,
+                                     result_rank_key)
+from service.fitment.interchange import TIP_TOLERANCE_MM, Tolerances, compare
+from service.fitment.model import Dim, HeatRange, HeatRangeBand, Options, PlugSpec, PortSpec, Span
+
+SETTINGS = settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+FAILING = {"PISTON_CONTACT", "VALVE_CONTACT", "TOOL_CLEARANCE"}
+
+# Lengths in mm on a 0.05 mm grid (as a shop would write them), tolerances 0-0.3 mm.
+def lengths(low: float, high: float):
+    return st.integers(int(low * 20), int(high * 20)).map(lambda n: n / 20)
+
+
+tolerances = st.sampled_from([0.0, 0.05, 0.1, 0.15, 0.2, 0.254, 0.3])
+dims = lambda low, high: st.builds(Dim, lengths(low, high), tolerances, tolerances)  # noqa: E731
+optional = lambda strategy: st.one_of(st.none(), strategy)  # noqa: E731
+
+seats = st.sampled_from(["flat", "conical"])
+hexes = st.sampled_from([None, 14.0, 15.875, 16.0, 16.1, 18.0, 20.8, 20.6375, 22.225, 13.0])
+
+
+@st.composite
+def plug_and_port(draw):
+    seat = draw(seats)
+    plug = PlugSpec(
+        "M14x1.25", seat,
+        reach=draw(optional(dims(8, 28))),
+        gasket_thickness=None if seat == "conical" else draw(optional(dims(0.5, 2.5))),
+        firing_end=draw(optional(dims(-1, 8))),
+        hex=draw(hexes), resistor=draw(st.sampled_from([None, True, False])),
+        terminal_height=draw(optional(dims(40, 65))),
+        heat_range=draw(st.sampled_from([None, HeatRange("shop", 4), HeatRange("shop", 7)])),
+        gap=draw(st.sampled_from([None, 0.6, 0.9, 1.3])))
+    by_seat = draw(st.booleans())
+    port = PortSpec(
+        "M14x1.25", seat,
+        port_depth=draw(optional(dims(8, 26))),
+        piston_clearance=None if by_seat else draw(optional(dims(1, 14))),
+        seat_to_piston=draw(optional(dims(10, 40))) if by_seat else None,
+        valve_clearance=draw(optional(dims(1, 14))),
+        well_bore=draw(st.sampled_from([None, 21.0, 22.4, 23.0, 26.0, 30.0])),
+        hex=draw(st.sampled_from([None, 16.0, 20.8])),
+        resistor_required=draw(st.sampled_from([None, True, False])),
+        material=draw(st.sampled_from([None, "aluminium", "cast_iron"])),
+        heat_range_band=draw(st.sampled_from([None, HeatRangeBand("shop", 4, 6)])),
+        boot_range=draw(st.sampled_from([None, Span(50.0, 60.0)])),
+        compression_ratio=draw(st.sampled_from([None, 10.0])), ignition_voltage_kv=draw(st.sampled_from([None, 30.0])))
+    if port.port_depth is not None and draw(st.booleans()):
+        long_side = Dim(port.port_depth.nominal + draw(lengths(0, 1.5)), 0.1, 0.1)
+        port = PortSpec(**{**{name: getattr(port, name) for name in PortSpec.__slots__},
+                           "port_depth_long_side": long_side})
+    options = Options(stack=draw(st.sampled_from(["worst_case", "rss"])),
+                      min_clearance=draw(st.sampled_from([None, 0.5, 2.0])),
+                      flush_tolerance=draw(st.sampled_from([None, 0.25, 1.0])),
+                      dynamic_allowance=draw(st.sampled_from([None, 0.3])))
+    return plug, port, options
+
+
+@SETTINGS
+@given(case=plug_and_port())
+def test_what_the_bounds_call_certain_the_engine_confirms(case, catalog):
+    plug, port, options = case
+    bounds = fit_bounds(port, options, catalog)
+    rule = classify(plug, bounds)
+    result = check_fit(plug, port, options, catalog)
+    fails = {finding.code for finding in result.findings if finding.severity == "fail"}
+    if rule.certain_fail:
+        assert result.verdict == FAIL and fails & FAILING
+    if rule.certain_no_fail:
+        assert result.verdict != FAIL, fails
+    if result.verdict == PASS:
+        assert rule.may_pass
+
+
+@SETTINGS
+@given(case=plug_and_port())
+def test_the_rank_key_from_dimensions_equals_the_key_from_the_engines_geometry(case, catalog):
+    plug, port, options = case
+    bounds = fit_bounds(port, options, catalog)
+    assert rank_key(plug, bounds) == result_rank_key(check_fit(plug, port, options, catalog))
+
+
+def test_clean_passes_come_before_warnings_and_failures_are_left_out():
+    entries = [
+        ("W-FLUSH", WARN, RankKey(0.0, 5.0)),      # flush but warns: after every pass
+        ("P-FAR", PASS, RankKey(0.4, 9.0)),
+        ("F-ANY", FAIL, RankKey(0.0, 9.0)),
+        ("P-FLUSH-TIGHT", PASS, RankKey(0.0, 2.0)),
+        ("P-FLUSH-ROOMY", PASS, RankKey(0.0, 4.0)),
+        ("P-NO-PISTON", PASS, RankKey(0.0, None)),  # margin unknown: after known margins
+        ("P-FLUSH-ROOMY-B", PASS, RankKey(0.0, 4.0)),
+        ("W-UNKNOWN-REACH", WARN, RankKey(None, 5.0)),
+        ("W-SHORT", WARN, RankKey(2.0, 8.0)),
+    ]
+    assert [sku for sku, _verdict, _key in rank(entries)] == [
+        "P-FLUSH-ROOMY", "P-FLUSH-ROOMY-B", "P-FLUSH-TIGHT", "P-NO-PISTON", "P-FAR",
+        "W-FLUSH", "W-SHORT", "W-UNKNOWN-REACH"]
+
+
+def test_the_pass_window_of_a_19mm_flat_port_is_a_millimetre_around_flush(catalog):
+    # design reach 19, standard M14 gasket 1.5 (seed_catalog/threads.csv, common practice):
+    # port depth 17.5; flush tolerance 0.5 mm (engine default, common practice).
+    port = PortSpec("M14x1.25", "flat", design_reach=Dim(19.0), piston_clearance=Dim(8.0))
+    bounds = fit_bounds(port, Options(), catalog)
+    assert bounds.pass_window == pytest.approx((17.0, 18.0))
+    # piston at 17.5 + 8 = 25.5; minimum clearance 1.5 (default): a nominal tip past 24 fails.
+    assert bounds.tip_fail_above == pytest.approx(24.0)
+    long_tip = PlugSpec("M14x1.25", "flat", reach=Dim(19.0), firing_end=Dim(6.6))  # tip 24.1
+    assert classify(long_tip, bounds).certain_fail
+    short = PlugSpec("M14x1.25", "flat", reach=Dim(12.7), firing_end=Dim(3.0))
+    assert not classify(short, bounds).may_pass and classify(short, bounds).certain_no_fail
+
+
+# --- interchanges ----------------------------------------------------------------------
+
+BASE = PlugSpec("M14x1.25", "flat", reach=Dim(19.0, 0.1, 0.1), gasket_thickness=Dim(1.5), firing_end=Dim(3.0),
+                hex=16.0, resistor=True, terminal_height=Dim(53.5))
+
+
+def changed(plug: PlugSpec, **changes) -> PlugSpec:
+    return PlugSpec(**{**{name: getattr(plug, name) for name in PlugSpec.__slots__}, **changes})
+
+
+def test_a_plug_with_a_thicker_gasket_and_longer_reach_sits_the_same_and_interchanges(catalog):
+    other = changed(BASE, reach=Dim(19.5), gasket_thickness=Dim(2.0))
+    comparison = compare(BASE, other, catalog)
+    assert comparison.thread_end_difference == pytest.approx(0.0)
+    assert comparison.tip_difference == pytest.approx(0.0)
+    assert comparison.terminal_top_difference == pytest.approx(0.5)  # 53.5 + 2.0 vs 53.5 + 1.5
+
+
+@pytest.mark.parametrize("reach, expected", [(19.5, True), (19.51, False), (18.5, True), (18.49, False)])
+def test_the_thread_end_may_move_by_the_flush_tolerance_and_no_more(catalog, reach, expected):
+    # 0.5 mm: the engine's default flush tolerance (common practice)
+    other = changed(BASE, reach=Dim(reach), firing_end=Dim(3.0 - (reach - 19.0)))  # keep the tip
+    assert (compare(BASE, other, catalog) is not None) is expected
+
+
+@pytest.mark.parametrize("firing_end, expected", [(3.75, True), (3.76, False), (2.25, True), (2.24, False)])
+def test_the_tip_may_move_by_half_the_minimum_clearance_and_no_more(catalog, firing_end, expected):
+    assert TIP_TOLERANCE_MM == 0.75  # half of the 1.5 mm default minimum clearance (common practice)
+    assert (compare(BASE, changed(BASE, firing_end=Dim(firing_end)), catalog) is not None) is expected
+
+
+def test_a_resistor_plug_is_not_replaced_by_one_without_but_the_reverse_is_fine(catalog):
+    without = changed(BASE, resistor=False)
+    unknown = changed(BASE, resistor=None)
+    assert compare(BASE, without, catalog) is None
+    assert compare(BASE, unknown, catalog) is None
+    assert compare(without, BASE, catalog) is not None
+
+
+def test_another_thread_or_seat_never_interchanges_and_another_hex_is_noted(catalog):
+    assert compare(BASE, changed(BASE, thread="M12x1.25"), catalog) is None
+    assert compare(BASE, changed(BASE, seat="conical", gasket_thickness=None), catalog) is None
+    assert compare(BASE, changed(BASE, hex=20.8), catalog).hex_differs is True
+    assert compare(BASE, changed(BASE, hex=15.875), catalog).hex_differs is False  # 5/8 in: same family
+    assert compare(BASE, changed(BASE, hex=None), catalog).hex_differs is None
+
+
+def test_unknown_tips_are_only_compared_with_unknown_tips(catalog):
+    no_tip = changed(BASE, firing_end=None)
+    assert compare(BASE, no_tip, catalog) is None and compare(no_tip, BASE, catalog) is None
+    both = compare(no_tip, changed(no_tip, reach=Dim(19.2)), catalog)
+    assert both.tip_difference is None and both.closeness == pytest.approx(0.2)
+
+
+def test_tightened_tolerances_narrow_the_match(catalog):
+    other = changed(BASE, firing_end=Dim(3.4))
+    assert compare(BASE, other, catalog) is not None
+    assert compare(BASE, other, catalog, Tolerances(tip_mm=0.3)) is None
+
+
+interchange_plugs = st.builds(
+    PlugSpec, st.just("M14x1.25"), st.just("flat"), reach=dims(17.5, 20.5),
+    gasket_thickness=optional(dims(1.0, 2.0)), firing_end=optional(dims(2, 4)), hex=hexes,
+    resistor=st.sampled_from([True, False, None]), terminal_height=optional(dims(50, 56)))
+
+
+@SETTINGS
+@given(first=interchange_plugs, second=interchange_plugs)
+def test_interchange_is_symmetric_when_the_resistor_rule_does_not_decide(first, second, catalog):
+    second = changed(second, resistor=first.resistor)
+    forward, backward = compare(first, second, catalog), compare(second, first, catalog)
+    assert (forward is None) == (backward is None)
+    if forward is not None:
+        assert forward.thread_end_difference == pytest.approx(-backward.thread_end_difference)
+        assert forward.closeness == pytest.approx(backward.closeness)
+        assert forward.hex_differs == backward.hex_differs
