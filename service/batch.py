@@ -125,7 +125,10 @@ class ItemLoader:
         shared = self._by_identity.get((name, id(document)))
         if shared is not None and shared[0] is document:
             return shared[1]
-        key = _key(document)
+        try:
+            key = _key(document)
+        except RecursionError:
+            return None, ["nested too deeply"]
         cache = self._cache[name]
         hit = cache.get(key)
         if hit is None:
@@ -133,6 +136,8 @@ class ItemLoader:
                 hit = (_schema_for(self._schemas[name], document).load(document), None)
             except ValidationError as exc:
                 hit = (None, exc.messages)
+            except RecursionError:
+                hit = (None, ["nested too deeply"])
             cache[key] = hit
         self._by_identity[(name, id(document))] = (document, hit)
         return hit

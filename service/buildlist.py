@@ -514,6 +514,10 @@ def read_json_text(text: str, *, max_items: int | None = None) -> list[RawItem]:
         document = json.loads(text)
     except json.JSONDecodeError as exc:
         raise NotJson([Problem(f"not valid JSON: {exc.msg}", exc.lineno, str(exc.colno))]) from None
+    except RecursionError:  # the C decoder's answer to thousands of nested brackets
+        raise NotJson([Problem("not valid JSON for a build list: nested too deeply")]) from None
+    except ValueError as exc:  # e.g. an integer of more digits than Python converts
+        raise NotJson([Problem(f"not valid JSON for a build list: {exc}")]) from None
     return read_json_document(document, max_items=max_items)
 
 

@@ -122,6 +122,8 @@ def test_a_csv_file_that_cannot_be_used_is_a_422_naming_line_and_column(client):
     (b"plug_thread\nM14\n", "text/plain", 415),
     (b"\xff\xfeplug", "text/csv", 422),
     (b"", "text/csv", 422),
+    (b'{"items": [{"ref": ' + b"9" * 5000 + b', "plug": {}, "head": {}}]}', "application/json", 400),
+    (b'{"items": [{"plug": ' + b'{"a":' * 100_000 + b"1" + b"}" * 100_000 + b"}]}", "application/json", 400),
 ])
 def test_a_body_that_is_not_a_build_list_is_a_problem_not_a_500(client, body, content_type, status):
     response = client.post(URL, data=body, content_type=content_type)

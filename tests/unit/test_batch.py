@@ -5,12 +5,14 @@ from __future__ import annotations
 import json
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from marshmallow import ValidationError
 
 from schemas.batch import BatchResponseSchema
 from schemas.specs import HeadInputSchema, OptionsSchema, PlugInputSchema, StoredHeadSchema, StoredPlugSchema
 from service.batch import _schema_for, run_batch
-from service.buildlist import read_csv, read_json_document
+from service.buildlist import BuildListError, read_csv, read_json_document
 
 # The contract's flush fit (fit-check-contract.md, "Geometry"): thread end e = 19.0 − 1.5
 # = 17.5 mm = port depth, so the protrusion is 0.0 mm; tip t = 17.5 + 4.0 = 21.5 mm;
@@ -187,3 +189,29 @@ def test_a_schema_narrowed_to_the_given_fields_loads_and_refuses_exactly_like_th
             return "refused", exc.messages
 
     assert outcome(_schema_for(schema, document)) == outcome(schema)
+
+
+CELLS = st.sampled_from(["", "M14", "M14x1.25", "flat", "taper", "19", "0.75 in", "19 ± 0.2", "19 +0.1/-0.3",
+                         "-3", "nan", "inf", "1e309", "3 kg", "abc", "yes", "REACH_LONG", "REACH_LONG: why",
+                         "piston,valve", "rss", "20 ft-lb", "45 degC", "±", "+/-", "1 ± x", "DEMO-1", "é"])
+COLUMNS = st.sampled_from(["ref", "note", "waive", "sku", "head_id", "plug_thread", "plug_seat", "plug_reach",
+                           "plug_reach_in", "plug_gasket_thickness_mm", "plug_firing_end", "plug_hex",
+                           "plug_resistor", "plug_heat_range_value", "head_thread", "head_seat",
+                           "head_port_depth", "head_piston_clearance_mm", "head_intake_temperature_degC",
+                           "head_boot_range_min", "torque", "torque_lbf_ft", "require", "stack", "gap"])
+
+
+@settings(max_examples=150, deadline=None)
+@given(header=st.lists(COLUMNS, min_size=1, max_size=8, unique=True),
+       rows=st.lists(st.lists(CELLS, min_size=8, max_size=8), min_size=1, max_size=5))
+def test_no_csv_build_list_makes_the_batch_fail_other_than_as_a_whole_file_problem(catalog, header, rows):
+    text = ",".join(header) + "\n" + "".join(",".join(f'"{cell}"' for cell in row[:len(header)]) + "\n"
+                                             for row in rows)
+    try:
+        raw = read_csv(text)
+    except BuildListError:
+        return
+    answer = run_batch(raw, catalog).as_dict()
+    assert len(answer["results"]) == len(raw)
+    assert all(result["verdict"] in ("pass", "warn", "fail", "invalid") for result in answer["results"])
+    assert json.loads(run_batch(raw, catalog).to_json()) == json.loads(json.dumps(answer))

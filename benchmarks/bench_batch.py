@@ -1,0 +1,169 @@
+"""How fast a 10,000-line build list is checked: by the batch endpoint and by
+`plugfit validate` embedded.
+
+Run:  .venv/bin/python benchmarks/bench_batch.py [--lines 10000] [--repeat 5]
+
+Goals (issue 4): the batch endpoint checks a 10,000-line list with inline dimensions
+in at most 1 s of server time; `plugfit validate` embedded in at most 2 s wall, on the
+project's 2-core machine. Not a test: it prints figures (best and median of the runs)
+for the README.
+
+Two lists, both DEMO DATA (an invented fleet workshop; no real engine or part):
+
+- "workshop": 10,000 engines of 40 invented head variants, each fitted with one of
+  the three plugs approved for its variant, a planned torque and gap from the shop's
+  habits. Lines repeat heads, plugs and unit strings ("0.75 in", "20 ft-lb") the way a
+  real list does, so the parse cache and the per-batch caches do their work.
+- "distinct": every line a different plug reach, firing end, port depth, piston
+  clearance and torque (plain numbers under `_mm` headers), so every line is loaded
+  and checked afresh: the worst case.
+
+Server time is measured in-process through Flask's test client (no network, no
+gunicorn): from the request entering the app to the full JSON body being built.
+"""
+from __future__ import annotations
+
+import argparse
+import csv
+import io
+import os
+import random
+import resource
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+PLUGFIT = ROOT / ".venv" / "bin" / "plugfit"
+
+# DEMO DATA: invented head variants of an invented fleet; sizes are the standard
+# spark-plug families of the seed catalogue, every other number is made up.
+_THREADS = (("M14x1.25", "flat", ("17.5", "19", "0.75 in", "12.7", "9.5")),
+            ("M14x1.25", "conical", ("11.2", "17.5", "0.708 in")),
+            ("M12x1.25", "flat", ("19", "26.5", "0.75 in")),
+            ("M10x1", "flat", ("12.7", "19")),
+            ("M18x1.5", "conical", ("10.9", "0.460 in")))
+
+
+def _workshop_rows(lines: int, rng: random.Random) -> tuple[list[str], list[list[str]]]:
+    header = ["ref", "note", "plug_thread", "plug_seat", "plug_reach", "plug_gasket_thickness", "plug_firing_end",
+              "plug_hex", "plug_resistor", "head_thread", "head_seat", "head_port_depth",
+              "head_piston_clearance", "head_well_bore_mm", "head_hex", "head_material", "head_resistor_required",
+              "torque", "gap", "waive"]
+    variants = []
+    for index in range(40):
+        thread, seat, reaches = _THREADS[index % len(_THREADS)]
+        design = rng.choice(reaches)
+        depth_mm = float(design.split()[0]) * (25.4 if design.endswith("in") else 1.0)
+        port_depth = depth_mm - (1.5 if seat == "flat" else 0.0)
+        head = [thread, seat, f"{port_depth:.2f} ± 0.2", rng.choice(["8", "6.5", "0.25 in", "12 ± 0.3"]),
+                rng.choice(["24", "28", "30"]), rng.choice(["16", "5/8 in", "20.8"]),
+                rng.choice(["aluminium", "cast_iron"]), rng.choice(["yes", "no"])]
+        plugs = []
+        for _ in range(3):
+            reach = rng.choice(reaches)
+            plugs.append([thread, seat, reach, "1.5" if seat == "flat" else "",
+                          rng.choice(["3", "4", "5 ± 0.3"]), rng.choice(["16", "5/8 in", "20.8"]),
+                          rng.choice(["true", "false"])])
+        variants.append((f"demo-variant-{index + 1:02d}", head, plugs))
+    rows = []
+    for line in range(lines):
+        name, head, plugs = rng.choice(variants)
+        plug = rng.choice(plugs)
+        waive = "HEX_DIFFERS: demo: the shop's sockets fit both" if rng.random() < 0.02 else ""
+        rows.append([f"demo-engine-{line + 1:05d}", name, *plug, *head,
+                     rng.choice(["", "25 N*m", "20 ft-lb", "28"]), rng.choice(["", "0.8 mm", "0.032 in"]), waive])
+    return header, rows
+
+
+def _distinct_rows(lines: int, rng: random.Random) -> tuple[list[str], list[list[str]]]:
+    header = ["ref", "plug_thread", "plug_seat", "plug_reach_mm", "plug_gasket_thickness_mm", "plug_firing_end_mm",
+              "head_thread", "head_seat", "head_port_depth_mm", "head_piston_clearance_mm", "torque"]
+    rows = []
+    for line in range(lines):
+        rows.append([f"demo-{line + 1:05d}", "M14x1.25", "flat", f"{rng.uniform(9, 27):.4f}", "1.5",
+                     f"{rng.uniform(2, 6):.4f}", "M14x1.25", "flat", f"{rng.uniform(8, 26):.4f}",
+                     f"{rng.uniform(2, 14):.4f}", f"{rng.uniform(15, 35):.2f}"])
+    return header, rows
+
+
+def build_list(kind: str, lines: int, seed: int = 20250101) -> str:
+    rng = random.Random(seed)
+    header, rows = (_workshop_rows if kind == "workshop" else _distinct_rows)(lines, rng)
+    out = io.StringIO()
+    writer = csv.writer(out, lineterminator="\n")
+    writer.writerow(header)
+    writer.writerows(rows)
+    return out.getvalue()
+
+
+def _figures(samples: list[tuple[float, float]]) -> str:
+    """Wall and CPU seconds, best and median: on a shared machine the CPU time shows
+    what the code costs when other processes slow the wall clock down."""
+    walls, cpus = [wall for wall, _ in samples], [cpu for _, cpu in samples]
+    return (f"wall best {min(walls):.3f} s, median {statistics.median(walls):.3f} s; "
+            f"CPU best {min(cpus):.3f} s, median {statistics.median(cpus):.3f} s")
+
+
+def bench_endpoint(text: str, repeat: int) -> list[tuple[float, float]]:
+    from service import create_app, db
+
+    with tempfile.TemporaryDirectory() as directory:
+        url = f"sqlite:///{directory}/bench.db"
+        db.upgrade(url)
+        app = create_app({"DATABASE_URL": url, "LOG_LEVEL": "WARNING"})
+        client = app.test_client()
+        body = text.encode()
+        samples = []
+        for _ in range(repeat + 1):
+            start, cpu_start = time.perf_counter(), time.process_time()
+            response = client.post("/v1/fit-checks/batch", data=body, content_type="text/csv")
+            response.get_data()
+            samples.append((time.perf_counter() - start, time.process_time() - cpu_start))
+            assert response.status_code == 200, response.get_data(as_text=True)[:500]
+        return samples[1:]  # the first run also loads pint and the catalogue
+
+
+def _children_cpu() -> float:
+    usage = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return usage.ru_utime + usage.ru_stime
+
+
+def bench_cli(path: Path, repeat: int, output_format: str) -> list[tuple[float, float]]:
+    samples = []
+    for _ in range(repeat):
+        start, cpu_start = time.perf_counter(), _children_cpu()
+        done = subprocess.run([str(PLUGFIT), "validate", str(path), "--format", output_format],
+                              stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, cwd=ROOT,
+                              env={**os.environ, "PLUGFIT_LOG_LEVEL": "WARNING"})
+        samples.append((time.perf_counter() - start, _children_cpu() - cpu_start))
+        assert done.returncode in (0, 1), done.stderr.decode()
+    return samples
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
+    parser.add_argument("--lines", type=int, default=10_000)
+    parser.add_argument("--repeat", type=int, default=5)
+    args = parser.parse_args()
+    print(f"{args.lines} lines, {args.repeat} runs each, {os.cpu_count()} CPUs, "
+          f"load average {os.getloadavg()[0]:.2f} at the start")
+    with tempfile.TemporaryDirectory() as directory:
+        for kind in ("workshop", "distinct"):
+            text = build_list(kind, args.lines)
+            path = Path(directory) / f"{kind}.csv"
+            path.write_text(text, encoding="utf-8")
+            print(f"\n{kind} list ({len(text) / 1e6:.1f} MB of CSV)")
+            print(f"  batch endpoint (server time):    {_figures(bench_endpoint(text, args.repeat))}")
+            for output_format in ("text", "json", "junit"):
+                print(f"  plugfit validate --format {output_format:<5}: "
+                      f"{_figures(bench_cli(path, args.repeat, output_format))}")
+
+
+if __name__ == "__main__":
+    main()
