@@ -14,9 +14,10 @@ from .model import Bounds, Finding, Options, PlugSpec, PortSpec, Value
 from .stack import Stack
 
 
-@lru_cache(maxsize=512)
-def _not_checked_message(check: str, missing: str) -> str:
-    return f"The {check.replace('_', ' ')} check was not made: {missing}."
+@lru_cache(maxsize=1024)
+def _not_checked(check: str, missing: str, severity: str) -> Finding:
+    # Findings are immutable, so the same few NOT_CHECKED findings are shared by every result.
+    return Finding("NOT_CHECKED", check, severity, f"The {check.replace('_', ' ')} check was not made: {missing}.", {})
 
 
 def _default_note(name: str, default: Default) -> str:
@@ -59,7 +60,7 @@ class FitContext:
     def not_checked(self, check: str, missing: str) -> None:
         """Record that `check` could not run; a required check turns this into a fail."""
         severity = "fail" if check in self.options.require else "info"
-        self.findings.append(Finding("NOT_CHECKED", check, severity, _not_checked_message(check, missing), {}))
+        self.findings.append(_not_checked(check, missing, severity))
 
     def assume(self, text: str) -> None:
         self.assumptions.append(text)

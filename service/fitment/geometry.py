@@ -39,7 +39,7 @@ def _gasket(ctx: FitContext) -> Stack | None:
     if plug.seat == "conical":
         return ZERO
     if plug.gasket_thickness is not None:
-        return Stack.of(plug.gasket_thickness)
+        return plug.gasket_thickness
     thickness = _standard_gasket(ctx, plug.thread, "plug gasket_thickness not given")
     return None if thickness is None else Stack.exact(thickness)
 
@@ -47,21 +47,21 @@ def _gasket(ctx: FitContext) -> Stack | None:
 def _port_depth(ctx: FitContext) -> Stack | None:
     port = ctx.port
     if port.port_depth is not None:
-        return Stack.of(port.port_depth)
+        return port.port_depth
     if port.design_reach is None:
         return None
     if port.seat == "conical":
-        return Stack.of(port.design_reach)
+        return port.design_reach
     thickness = _standard_gasket(ctx, port.thread, "port depth derived from design_reach")
-    return None if thickness is None else Stack.of(port.design_reach) - Stack.exact(thickness)
+    return None if thickness is None else port.design_reach - Stack.exact(thickness)
 
 
 def _clearance_stack(ctx: FitContext, from_seat: Dim | None, from_breakout: Dim | None) -> Stack | None:
     """Distance from the seat face to an obstacle (piston, valve) along the axis."""
     if from_seat is not None:
-        return Stack.of(from_seat)
+        return from_seat
     if from_breakout is not None and ctx.port_depth is not None:
-        return ctx.port_depth + Stack.of(from_breakout)
+        return ctx.port_depth + from_breakout
     return None
 
 
@@ -71,15 +71,15 @@ def derive(ctx: FitContext) -> None:
     ctx.gasket = _gasket(ctx)
     ctx.port_depth = _port_depth(ctx)
     if ctx.port_depth is not None:
-        ctx.port_depth_long = (Stack.of(port.port_depth_long_side)
+        ctx.port_depth_long = (port.port_depth_long_side
                                if port.port_depth_long_side is not None else ctx.port_depth)
     if plug.reach is not None and ctx.gasket is not None:
-        ctx.thread_end = Stack.of(plug.reach) - ctx.gasket
+        ctx.thread_end = plug.reach - ctx.gasket
         if ctx.port_depth is not None:
             geometry["thread_protrusion"] = (ctx.thread_end - ctx.port_depth).bounds()
             geometry["thread_recess"] = (ctx.thread_end - ctx.port_depth_long).bounds()
         if plug.firing_end is not None:
-            ctx.tip = ctx.thread_end + Stack.of(plug.firing_end)
+            ctx.tip = ctx.thread_end + plug.firing_end
             geometry["tip_position"] = ctx.tip.bounds()
     if ctx.tip is None:
         return

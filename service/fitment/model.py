@@ -7,27 +7,42 @@ converted at the boundary (`service.units`, `schemas/`) before anything reaches 
 from __future__ import annotations
 
 from dataclasses import dataclass
+from operator import itemgetter
+
 from typing import TYPE_CHECKING, NamedTuple
+
+from .stack import Bounds, Stack
 
 if TYPE_CHECKING:  # pragma: no cover
     from .catalog import TorqueGuide
 
 
-@dataclass(frozen=True, slots=True)
-class Dim:
+class Dim(Stack):
     """A length in mm with its tolerance; `plus` and `minus` are positive amounts.
 
     A value given without a tolerance is exact (plus = minus = 0): the contract forbids
-    adding tolerances silently.
+    adding tolerances silently. A Dim is a one-term tolerance stack: it carries the
+    squares of its tolerances too, laid out as `stack.Stack` expects, so the engine adds
+    and subtracts Dims without converting them first.
     """
 
-    nominal: float
-    plus: float = 0.0
-    minus: float = 0.0
+    __slots__ = ()
+
+    def __new__(cls, nominal: float, plus: float = 0.0, minus: float = 0.0) -> "Dim":  # type: ignore[misc]
+        return tuple.__new__(cls, (nominal, plus, minus, plus * plus, minus * minus))
+
+    def __getnewargs__(self) -> tuple[float, float, float]:  # pickling and copy
+        return self[0], self[1], self[2]
+
+    def __repr__(self) -> str:
+        return f"Dim(nominal={self[0]!r}, plus={self[1]!r}, minus={self[2]!r})"
+
+    plus = property(itemgetter(1))
+    minus = property(itemgetter(2))
 
     @property
     def is_exact(self) -> bool:
-        return self.plus == 0.0 and self.minus == 0.0
+        return self[1] == 0.0 and self[2] == 0.0
 
 
 @dataclass(frozen=True, slots=True)
@@ -109,19 +124,6 @@ class Options:
     lubrication: str | None = None
     gap: float | None = None
     require: frozenset[str] = frozenset()
-
-
-class Bounds(NamedTuple):
-    """One geometry entry: nominal, worst-case and root-sum-square bounds, in mm.
-
-    A NamedTuple rather than a frozen dataclass: several are built per check, and a
-    tuple is three times cheaper to make."""
-
-    nominal: float
-    min: float
-    max: float
-    rss_min: float
-    rss_max: float
 
 
 # A finding value: (number, quantity kind). Kinds: length, torque, pressure, voltage,

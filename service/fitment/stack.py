@@ -14,9 +14,20 @@ from __future__ import annotations
 from math import sqrt
 from typing import NamedTuple
 
-from .model import Bounds, Dim
-
 _new = tuple.__new__
+
+
+class Bounds(NamedTuple):
+    """One geometry entry: nominal, worst-case and root-sum-square bounds, in mm.
+
+    A NamedTuple rather than a frozen dataclass: several are built per check, and a
+    tuple is three times cheaper to make."""
+
+    nominal: float
+    min: float
+    max: float
+    rss_min: float
+    rss_max: float
 
 
 class Stack(NamedTuple):
@@ -27,9 +38,9 @@ class Stack(NamedTuple):
     down_sq: float = 0.0
 
     @staticmethod
-    def of(dim: Dim) -> "Stack":
-        plus, minus = dim.plus, dim.minus
-        return _new(Stack, (dim.nominal, plus, minus, plus * plus, minus * minus))
+    def of(dim: "Stack") -> "Stack":
+        # A Dim is already a one-term stack (see model.Dim); this only drops its type.
+        return _new(Stack, dim)
 
     @staticmethod
     def exact(value: float) -> "Stack":

@@ -20,7 +20,7 @@ def lengths(low: float, high: float):
 
 
 tolerances = st.sampled_from([0.0, 0.05, 0.1, 0.15, 0.2, 0.254, 0.3])
-dims = lambda low, high: st.builds(Dim, lengths(low, high), tolerances, tolerances)  # noqa: E731
+dims = lambda low, high: st.tuples(lengths(low, high), tolerances, tolerances).map(lambda t: Dim(*t))  # noqa: E731
 optional = lambda strategy: st.one_of(st.none(), strategy)  # noqa: E731
 
 seats = st.sampled_from(["flat", "conical"])
