@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from datetime import datetime, timezone
 
-from sqlalchemy import Boolean, false, DateTime, Float, Index, Integer, MetaData, String
+from sqlalchemy import JSON, Boolean, false, DateTime, Float, Index, Integer, MetaData, String
 from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column
 
 IDENTIFIER_LENGTH = 64
@@ -167,3 +167,31 @@ class ApiKey(Base):
     prefix: Mapped[str] = mapped_column(String(16), nullable=False, index=True)
     key_hash: Mapped[str] = mapped_column(String(64), unique=True, nullable=False)
     created_at: Mapped[datetime] = mapped_column(DateTime(timezone=True), default=utc_now, nullable=False)
+
+
+class ChangeRecord(Base):
+    """One change to a plug or head: who, when, what it was before and after.
+
+    Append-only (service/history.py writes it in the same transaction as the change;
+    database triggers from migration 0003 refuse UPDATE and DELETE). Keyed by the
+    record's identifier, not its row id, so a deleted record's history stays readable.
+    """
+
+    __tablename__ = "change_history"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    resource: Mapped[str] = mapped_column(String(8), nullable=False)
+    identifier: Mapped[str] = mapped_column(String(IDENTIFIER_LENGTH), nullable=False)
+    action: Mapped[str] = mapped_column(String(16), nullable=False)
+    actor: Mapped[str] = mapped_column(String(100), nullable=False)
+    source: Mapped[str] = mapped_column(String(16), nullable=False)
+    changed_at: Mapped[datetime] = mapped_column(DateTime(timezone=True), nullable=False)
+    version_before: Mapped[int | None] = mapped_column(Integer)
+    version_after: Mapped[int | None] = mapped_column(Integer)
+    before: Mapped[dict | None] = mapped_column(JSON)
+    after: Mapped[dict | None] = mapped_column(JSON)
+
+    __table_args__ = (
+        # A record's history page: its entries in order.
+        Index("ix_change_history_record", "resource", "identifier", "id"),
+    )

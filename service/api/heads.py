@@ -6,7 +6,8 @@ from flask.views import MethodView
 from schemas.inventory import HeadFilterSchema, HeadReplacementSchema
 from schemas.specs import StoredHeadSchema
 from service import db, repository
-from service.api import examples, inventory
+from schemas.history import ChangeSchema, HistoryQuerySchema
+from service.api import examples, history, inventory
 from service.api.base import Blueprint
 
 blp = Blueprint("heads", __name__, url_prefix="/v1/heads",
@@ -87,3 +88,21 @@ class HeadItem(MethodView):
         """
         session = db.session()
         inventory.delete(blp, repository.heads(session), head_id, "head", session)
+
+
+@blp.route("/<string:head_id>/history", parameters=[HEAD_ID_PARAMETER])
+class HeadHistory(MethodView):
+    @blp.arguments(HistoryQuerySchema, location="query")
+    @blp.response(200, ChangeSchema(many=True), example=history.HEAD_EXAMPLE)
+    @blp.alt_response(404, response="NOT_FOUND")
+    @blp.paginate()
+    def get(self, query, head_id, pagination_parameters):
+        """Change history of a head
+
+        Every create, replace and delete of the head, by the API or an import, with who
+        made it (the API key's name), when, and the head before and after as GET showed
+        it. Newest first unless `order=oldest_first`; paginated with `page` and
+        `page_size` (X-Pagination header). A deleted head's history is still served; 404
+        when the head_id has neither a head nor any history.
+        """
+        return history.history_page("head", head_id, query, pagination_parameters)

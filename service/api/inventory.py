@@ -7,10 +7,10 @@ from datetime import datetime, timezone
 from email.utils import format_datetime
 from typing import Any
 
-from flask import url_for
+from flask import request, url_for
 from sqlalchemy.orm.exc import StaleDataError
 
-from service import problems
+from service import history, problems
 from service.api.base import Blueprint
 from service.repository import DuplicateIdentifier, Repository
 
@@ -40,6 +40,8 @@ def create(blp: Blueprint, repo: Repository, document: dict[str, Any], endpoint:
     key = repo.mapping.key
     try:
         row = repo.add(document)
+        history.record_change(session, history.KIND_BY_KEY[key], getattr(row, key), None,
+                              repo.mapping.document_of(row), version_after=row.version)
         session.commit()
     except DuplicateIdentifier as duplicate:
         problems.abort(409, f"A record with {key} {duplicate.identifier!r} exists; replace it with PUT "
@@ -60,11 +62,15 @@ def replace(blp: Blueprint, repo: Repository, identifier: str, document: dict[st
         problems.abort(422, f"The body's {key} differs from the path's; a record cannot be renamed.",
                        errors={key: [f"must equal {identifier!r}, the path's {key}"]})
     blp.check_etag_if_sent(etag_data(row, key))
+    before, version_before = repo.mapping.document_of(row), row.version
     try:
         repo.replace(row, {**document, key: identifier})
+        history.record_change(session, history.KIND_BY_KEY[key], identifier, before,
+                              repo.mapping.document_of(row), version_before=version_before,
+                              version_after=row.version)
         session.commit()
     except StaleDataError:
-        problems.abort(409, f"The {kind} changed while this request ran; read it again and retry.")
+        _changed_meanwhile(kind)
     blp.set_etag(etag_data(row, key))
     return repo.mapping.document_of(row), last_modified(row)
 
@@ -75,8 +81,21 @@ def delete(blp: Blueprint, repo: Repository, identifier: str, kind: str, session
     if row is None:
         not_found(kind, key, identifier)
     blp.check_etag_if_sent(etag_data(row, key))
+    before, version_before = repo.mapping.document_of(row), row.version
     try:
         repo.delete(row)
+        history.record_change(session, history.KIND_BY_KEY[key], identifier, before, None,
+                              version_before=version_before)
         session.commit()
     except StaleDataError:
-        problems.abort(409, f"The {kind} changed while this request ran; read it again and retry.")
+        _changed_meanwhile(kind)
+
+
+def _changed_meanwhile(kind: str):
+    """Another writer committed between this request's read and its write (the UPDATE or
+    DELETE is conditional on the version read, so it changed nothing). With If-Match
+    that is the stale-tag case, 412; without, 409: retry after reading again."""
+    if request.if_match:
+        problems.abort(412, f"The {kind} changed since the ETag sent in If-Match was read; "
+                            "GET it again and retry.")
+    problems.abort(409, f"The {kind} changed while this request ran; read it again and retry.")

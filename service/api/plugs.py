@@ -6,7 +6,8 @@ from flask.views import MethodView
 from schemas.inventory import PlugFilterSchema, PlugReplacementSchema
 from schemas.specs import StoredPlugSchema
 from service import db, repository
-from service.api import examples, inventory
+from schemas.history import ChangeSchema, HistoryQuerySchema
+from service.api import examples, history, inventory
 from service.api.base import Blueprint
 
 blp = Blueprint("plugs", __name__, url_prefix="/v1/plugs",
@@ -89,3 +90,21 @@ class PlugItem(MethodView):
         """
         session = db.session()
         inventory.delete(blp, repository.plugs(session), sku, "plug", session)
+
+
+@blp.route("/<string:sku>/history", parameters=[SKU_PARAMETER])
+class PlugHistory(MethodView):
+    @blp.arguments(HistoryQuerySchema, location="query")
+    @blp.response(200, ChangeSchema(many=True), example=history.PLUG_EXAMPLE)
+    @blp.alt_response(404, response="NOT_FOUND")
+    @blp.paginate()
+    def get(self, query, sku, pagination_parameters):
+        """Change history of a plug
+
+        Every create, replace and delete of the plug, by the API or an import, with who
+        made it (the API key's name), when, and the plug before and after as GET showed
+        it. Newest first unless `order=oldest_first`; paginated with `page` and
+        `page_size` (X-Pagination header). A deleted plug's history is still served; 404
+        when the sku has neither a plug nor any history.
+        """
+        return history.history_page("plug", sku, query, pagination_parameters)

@@ -1,0 +1,168 @@
+"""No lost updates (If-Match against the row version, checked atomically with the write)
+and the append-only history of every change, on SQLite and, under
+PLUGFIT_TEST_POSTGRES_URL, PostgreSQL."""
+from __future__ import annotations
+
+import pytest
+from sqlalchemy import text
+from sqlalchemy.exc import DatabaseError
+
+from schemas.problem import PROBLEM_MEDIA_TYPE
+from service import create_app, db, repository
+from service.auth import create_key
+
+PLUG = {"sku": "LU-14F-19", "thread": "M14x1.25", "seat": "flat", "reach": 19.0, "gasket_thickness": 1.5,
+        "firing_end": 4.0, "quantity_on_hand": 10, "location": "A1"}
+HEAD = {"head_id": "LU-HEAD-1", "thread": "M14x1.25", "seat": "flat", "port_depth": 17.5,
+        "piston_clearance": 8.0, "description": "lost-update test head"}
+
+RESOURCES = [
+    pytest.param("plugs", PLUG, "sku", "quantity_on_hand", (4, 9), id="plug"),
+    pytest.param("heads", HEAD, "head_id", "description", ("counter A's note", "counter B's note"), id="head"),
+]
+
+
+def problem(response, status: int) -> dict:
+    assert response.status_code == status, response.get_data(as_text=True)
+    assert response.mimetype == PROBLEM_MEDIA_TYPE
+    return response.get_json(force=True)
+
+
+@pytest.fixture
+def second_counter(database_url):
+    """Another client with its own app, engine and API key: a second counter terminal
+    (or a second server process) on the same database."""
+    app = create_app({"TESTING": True, "DATABASE_URL": database_url})
+    with db.unit_of_work(app) as session:
+        key = create_key(session, "counter-b").key
+        session.commit()
+    yield app.test_client(), {"Authorization": f"Bearer {key}"}
+
+
+@pytest.mark.parametrize("collection, record, key, field, values", RESOURCES)
+def test_of_two_clients_holding_the_same_etag_the_first_put_wins_and_the_second_gets_412(
+        client, auth, second_counter, collection, record, key, field, values):
+    other, other_auth = second_counter
+    url = f"/v1/{collection}/{record[key]}"
+    assert client.post(f"/v1/{collection}", json=record, headers=auth).status_code == 201
+    tag_a = client.get(url).headers["ETag"]
+    tag_b = other.get(url).headers["ETag"]
+    assert tag_a == tag_b
+
+    first = client.put(url, json={**record, field: values[0]}, headers={**auth, "If-Match": tag_a})
+    assert first.status_code == 200
+    body = problem(other.put(url, json={**record, field: values[1]}, headers={**other_auth, "If-Match": tag_b}), 412)
+    assert body["type"] == "tag:plugfit,2025:problem/precondition-failed"
+    # The newer data survived, and the loser's tag still cannot delete it.
+    assert other.get(url).get_json()[field] == values[0]
+    problem(other.delete(url, headers={**other_auth, "If-Match": tag_b}), 412)
+    assert client.get(url).status_code == 200
+    # With the current tag the second client may go ahead.
+    current = other.get(url).headers["ETag"]
+    assert other.put(url, json={**record, field: values[1]},
+                     headers={**other_auth, "If-Match": current}).status_code == 200
+
+
+@pytest.mark.parametrize("collection, record, key, field, values", RESOURCES)
+def test_a_write_that_lands_between_the_etag_check_and_the_update_still_gets_412(
+        app, client, auth, monkeypatch, collection, record, key, field, values):
+    """The If-Match comparison and the UPDATE are one step: the UPDATE is conditional on
+    the version the check saw (`WHERE version = :read`), so a writer slipping in between
+    makes it change nothing, and the request is refused instead of overwriting."""
+    url = f"/v1/{collection}/{record[key]}"
+    assert client.post(f"/v1/{collection}", json=record, headers=auth).status_code == 201
+    tag = client.get(url).headers["ETag"]
+    original_replace = repository.Repository.replace
+    rivals = []
+
+    def replace_after_a_rival_commits(self, row, document):
+        if not rivals:  # the first request to get here; the rival's own call goes straight through
+            rivals.append(create_app({"TESTING": True, "DATABASE_URL": app.config["DATABASE_URL"]}).test_client())
+            assert rivals[0].put(url, json={**record, field: values[1]}, headers=auth).status_code == 200
+        return original_replace(self, row, document)
+
+    monkeypatch.setattr(repository.Repository, "replace", replace_after_a_rival_commits)
+    problem(client.put(url, json={**record, field: values[0]}, headers={**auth, "If-Match": tag}), 412)
+    monkeypatch.undo()
+    assert rivals, "the rival write did not run"
+    assert client.get(url).get_json()[field] == values[1]
+
+
+def test_without_if_match_the_last_write_wins(client, auth):
+    url = f"/v1/plugs/{PLUG['sku']}"
+    client.post("/v1/plugs", json=PLUG, headers=auth)
+    assert client.put(url, json={**PLUG, "quantity_on_hand": 1}, headers=auth).status_code == 200
+    assert client.put(url, json={**PLUG, "quantity_on_hand": 2}, headers=auth).status_code == 200
+    assert client.get(url).get_json()["quantity_on_hand"] == 2
+
+
+def history(client, url: str, **query) -> list[dict]:
+    response = client.get(url + "/history", query_string=query)
+    assert response.status_code == 200, response.get_data(as_text=True)
+    return response.get_json()
+
+
+@pytest.mark.parametrize("collection, record, key, field, values", RESOURCES)
+def test_create_replace_and_delete_each_leave_a_history_entry_with_who_when_before_and_after(
+        client, auth, collection, record, key, field, values):
+    url = f"/v1/{collection}/{record[key]}"
+    created = client.post(f"/v1/{collection}", json=record, headers=auth).get_json()
+    replaced = client.put(url, json={**record, field: values[0]}, headers=auth).get_json()
+    assert client.delete(url, headers=auth).status_code == 204
+
+    entries = history(client, url, order="oldest_first")
+    assert [entry["action"] for entry in entries] == ["create", "replace", "delete"]
+    assert {entry["actor"] for entry in entries} == {"test-suite"}  # the API key's name (conftest)
+    assert {entry["source"] for entry in entries} == {"api"}
+    assert [(e["version_before"], e["version_after"]) for e in entries] == [(None, 1), (1, 2), (2, None)]
+    assert entries[0]["before"] is None and entries[0]["after"] == created
+    assert entries[1]["before"] == created and entries[1]["after"] == replaced
+    assert entries[2]["before"] == replaced and entries[2]["after"] is None
+    stamps = [entry["changed_at"] for entry in entries]
+    assert stamps == sorted(stamps) and all(stamp.endswith("+00:00") for stamp in stamps)
+    # Newest first by default; the history outlives the deleted record.
+    assert [entry["action"] for entry in history(client, url)] == ["delete", "replace", "create"]
+
+
+def test_a_refused_write_leaves_no_history_entry(client, auth):
+    url = f"/v1/plugs/{PLUG['sku']}"
+    tag = client.post("/v1/plugs", json=PLUG, headers=auth).headers["ETag"]
+    client.put(url, json={**PLUG, "quantity_on_hand": 3}, headers={**auth, "If-Match": tag})
+    problem(client.put(url, json={**PLUG, "quantity_on_hand": 4}, headers={**auth, "If-Match": tag}), 412)
+    problem(client.put(url, json={**PLUG, "reach": -1}, headers=auth), 422)
+    assert [entry["action"] for entry in history(client, url)] == ["replace", "create"]
+
+
+def test_history_pages_with_page_and_page_size(client, auth):
+    url = f"/v1/plugs/{PLUG['sku']}"
+    client.post("/v1/plugs", json=PLUG, headers=auth)
+    for quantity in range(1, 6):
+        client.put(url, json={**PLUG, "quantity_on_hand": quantity}, headers=auth)
+    response = client.get(url + "/history", query_string={"page": 2, "page_size": 2})
+    assert response.status_code == 200
+    assert [entry["after"]["quantity_on_hand"] for entry in response.get_json()] == [3, 2]
+    assert '"total": 6' in response.headers["X-Pagination"]
+    problem(client.get(url + "/history", query_string={"page_size": 1001}), 422)
+
+
+def test_the_history_of_an_identifier_never_used_is_a_404(client):
+    assert problem(client.get("/v1/plugs/NEVER-1/history"), 404)["errors"] == {"sku": ["no plug 'NEVER-1'"]}
+    problem(client.get("/v1/heads/NEVER-1/history"), 404)
+
+
+def test_a_record_with_no_recorded_change_has_an_empty_history(app, client):
+    with db.unit_of_work(app) as session:
+        repository.plugs(session).add({"sku": "QUIET-1", "thread": "M14x1.25", "seat": "flat"})
+        session.commit()  # written without going through the API: no entry
+    assert history(client, "/v1/plugs/QUIET-1") == []
+
+
+@pytest.mark.parametrize("statement", ["UPDATE change_history SET actor = 'someone else'",
+                                       "DELETE FROM change_history"])
+def test_the_database_itself_refuses_to_rewrite_history(app, client, auth, statement):
+    client.post("/v1/plugs", json=PLUG, headers=auth)
+    engine = db.get_database(app).engine
+    with pytest.raises(DatabaseError, match="append-only"):
+        with engine.begin() as connection:
+            connection.execute(text(statement))
+    assert history(client, f"/v1/plugs/{PLUG['sku']}")[0]["actor"] == "test-suite"
