@@ -39,6 +39,13 @@ class ProblemSchema(ma.Schema):
             "example": "The request body has fields that are missing or cannot be read; see errors.",
         },
     )
+    limit = ma.fields.Integer(
+        metadata={
+            "description": "On a refusal over a configured limit (413 body or batch too large, 422 page_size "
+            "too large): the limit, in the unit `detail` names (bytes, items, records per page).",
+            "example": 1000,
+        },
+    )
     errors = ma.fields.Dict(
         keys=ma.fields.String(),
         metadata={

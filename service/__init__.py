@@ -19,7 +19,7 @@ def create_app(test_config: Mapping[str, Any] | None = None) -> Flask:
     `test_config` (used by tests to point at a temporary database)."""
     import logging as std_logging
 
-    from service import auth, config, db, problems
+    from service import auth, config, db, limits, problems
     from service import logging as service_logging
     from service.api import register_blueprints
     from service.api.base import Api
@@ -56,6 +56,7 @@ def create_app(test_config: Mapping[str, Any] | None = None) -> Flask:
     auth.init_app(app)
     api = Api(app)
     problems.init_app(app)
+    limits.init_app(app)
     register_blueprints(api)
     app.extensions["plugfit.api"] = api
     return app

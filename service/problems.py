@@ -70,9 +70,13 @@ def abort(
     slug: str | None = None,
     title: str | None = None,
     headers: Mapping[str, str] | None = None,
+    limit: int | None = None,
 ) -> NoReturn:
-    """Stop the request with a problem; `errors` mirrors the request's structure."""
+    """Stop the request with a problem; `errors` mirrors the request's structure, `limit`
+    is the configured limit a refusal is about (problem member `limit`)."""
     data: dict[str, Any] = {"message": detail}
+    if limit is not None:
+        data["limit"] = limit
     if errors is not None:
         data["errors"] = dict(errors)
     if slug is not None:
@@ -93,7 +97,7 @@ def _strip_location(messages: Any) -> Any:
 
 
 def problem_document(status: int, detail: str | None = None, *, errors: Any = None,
-                     slug: str | None = None, title: str | None = None) -> dict[str, Any]:
+                     slug: str | None = None, title: str | None = None, limit: int | None = None) -> dict[str, Any]:
     slug = slug or TYPES_BY_STATUS.get(status)
     document: dict[str, Any] = {
         "type": problem_type(slug) if slug else "about:blank",
@@ -101,6 +105,8 @@ def problem_document(status: int, detail: str | None = None, *, errors: Any = No
         "status": status,
         "detail": detail or _DETAIL_BY_STATUS.get(status) or _phrase(status) + ".",
     }
+    if limit is not None:
+        document["limit"] = limit
     if errors is not None:
         if not isinstance(errors, Mapping):
             errors = {"_request": errors if isinstance(errors, list) else [str(errors)]}
@@ -110,8 +116,8 @@ def problem_document(status: int, detail: str | None = None, *, errors: Any = No
 
 def problem_response(status: int, detail: str | None = None, *, errors: Any = None,
                      slug: str | None = None, title: str | None = None,
-                     headers: Mapping[str, str] | None = None) -> Response:
-    body = problem_document(status, detail, errors=errors, slug=slug, title=title)
+                     headers: Mapping[str, str] | None = None, limit: int | None = None) -> Response:
+    body = problem_document(status, detail, errors=errors, slug=slug, title=title, limit=limit)
     response = Response(json.dumps(body), status=status, mimetype=PROBLEM_MEDIA_TYPE)
     for name, value in (headers or {}).items():
         response.headers[name] = value
@@ -143,6 +149,7 @@ def handle_http_exception(error: HTTPException) -> Response:
     detail = data.get("message")
     if detail is None and status not in _DETAIL_BY_STATUS and status < 500:
         detail = error.description
+    limit = data.get("limit")
     if status == 413 and detail is None:
         limit = current_app.config.get("MAX_BODY_BYTES")
         detail = (f"The request body is larger than the {limit} bytes this service accepts "
@@ -158,7 +165,7 @@ def handle_http_exception(error: HTTPException) -> Response:
     if status == 401:
         headers.setdefault("WWW-Authenticate", 'Bearer realm="plugfit"')
     return problem_response(status, detail, errors=errors, slug=data.get("slug"),
-                            title=data.get("title"), headers=headers)
+                            title=data.get("title"), headers=headers, limit=limit)
 
 
 def init_app(app: Flask) -> None:

@@ -107,7 +107,7 @@ class Blueprint(flask_smorest.Blueprint):
                 raw = request.args.get("page_size")
                 if raw is not None and raw.isdigit() and int(raw) > limit:
                     problems.abort(422, f"page_size may be at most {limit}.",
-                                   errors={"page_size": [f"Must be between 1 and {limit}."]})
+                                   errors={"page_size": [f"Must be between 1 and {limit}."]}, limit=limit)
                 raw_page = request.args.get("page")
                 if raw_page is not None and raw_page.isdigit() and int(raw_page) > MAX_PAGE:
                     # Far past any list, and past what a database OFFSET can hold.

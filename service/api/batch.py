@@ -85,7 +85,7 @@ def _read_body(limit: int) -> list:
         return read_csv(text, max_items=limit) if is_csv else read_json_text(text, max_items=limit)
     except TooManyItems:
         problems.abort(413, f"A batch may hold at most {limit} items (setting PLUGFIT_MAX_BATCH_ITEMS); "
-                            "split the build list.", slug="too-many-items")
+                            "split the build list.", slug="too-many-items", limit=limit)
     except BuildListError as error:
         problems.abort(400 if isinstance(error, NotJson) else 422, f"The build list cannot be used: {error}",
                        errors=error.errors())
