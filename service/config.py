@@ -21,6 +21,9 @@ class Defaults:
 
     # None means: SQLite in the Flask instance folder (`instance/plugfit.db`).
     DATABASE_URL: str | None = None
+    # Seconds to wait for the database (a connection to a server database, a free pooled
+    # connection, SQLite's lock) before the request gets a 503 problem.
+    DATABASE_TIMEOUT: int = 5
     # Reads (GETs, fit-checks, batches, diagrams) are open unless this is on.
     REQUIRE_KEY_FOR_READS: bool = False
     # Largest request body accepted; larger bodies get a 413 problem.

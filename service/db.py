@@ -20,37 +20,55 @@ EXTENSION_KEY = "plugfit.db"
 MIGRATIONS_DIR = Path(__file__).resolve().parent.parent / "migrations"
 
 
-def _tune_sqlite(dbapi_connection, _connection_record) -> None:
-    """WAL lets readers run while a writer commits; SQLite leaves foreign keys off unless
-    asked, per connection; the busy timeout makes a second writer wait instead of failing."""
-    cursor = dbapi_connection.cursor()
-    try:
-        cursor.execute("PRAGMA foreign_keys=ON")
-        cursor.execute("PRAGMA busy_timeout=5000")
-        cursor.execute("PRAGMA journal_mode=WAL")
-    finally:
-        cursor.close()
+# Seconds to wait for the database before giving up (PLUGFIT_DATABASE_TIMEOUT).
+DEFAULT_TIMEOUT_S = 5
 
 
-def make_engine(url: str) -> Engine:
-    """An engine for `url`; SQLite files get WAL, foreign keys and a busy timeout."""
+def _sqlite_tuner(timeout_s: int):
+    def _tune_sqlite(dbapi_connection, _connection_record) -> None:
+        """WAL lets readers run while a writer commits; SQLite leaves foreign keys off unless
+        asked, per connection; the busy timeout makes a second writer wait instead of failing."""
+        cursor = dbapi_connection.cursor()
+        try:
+            cursor.execute("PRAGMA foreign_keys=ON")
+            cursor.execute(f"PRAGMA busy_timeout={int(timeout_s * 1000)}")
+            cursor.execute("PRAGMA journal_mode=WAL")
+        finally:
+            cursor.close()
+
+    return _tune_sqlite
+
+
+def make_engine(url: str, timeout_s: int = DEFAULT_TIMEOUT_S) -> Engine:
+    """An engine for `url`; SQLite files get WAL, foreign keys and a busy timeout.
+
+    A server database that is down or unreachable must cost a request `timeout_s` at
+    most, then a 503 (service.problems), never a hang: the connect timeout bounds a
+    connection attempt to a silent host, the pool timeout the wait for a free
+    connection, and pre-ping replaces connections that died while pooled (a database
+    restart), so the service recovers by itself when the database is back."""
     parsed = make_url(url)
     if parsed.get_backend_name() == "sqlite":
         database = parsed.database
         if database and database != ":memory:" and not database.startswith("file:"):
             Path(database).parent.mkdir(parents=True, exist_ok=True)
         engine = create_engine(url, connect_args={"check_same_thread": False})
-        event.listen(engine, "connect", _tune_sqlite)
+        event.listen(engine, "connect", _sqlite_tuner(timeout_s))
         return engine
-    return create_engine(url, pool_pre_ping=True)
+    connect_args: dict = {}
+    if parsed.get_backend_name() == "postgresql":
+        # lock_timeout: a statement waiting on another transaction's lock gives up like
+        # SQLite's busy timeout does, instead of holding the request indefinitely.
+        connect_args = {"connect_timeout": timeout_s, "options": f"-c lock_timeout={int(timeout_s * 1000)}"}
+    return create_engine(url, pool_pre_ping=True, pool_timeout=timeout_s, connect_args=connect_args)
 
 
 class Database:
     """The app's engine and session factory, kept in `app.extensions`."""
 
-    def __init__(self, url: str) -> None:
+    def __init__(self, url: str, timeout_s: int = DEFAULT_TIMEOUT_S) -> None:
         self.url = url
-        self.engine = make_engine(url)
+        self.engine = make_engine(url, timeout_s)
         self.sessions = sessionmaker(self.engine, expire_on_commit=False)
 
     @contextmanager
@@ -66,7 +84,7 @@ class Database:
 
 
 def init_app(app: Flask) -> Database:
-    database = Database(app.config["DATABASE_URL"])
+    database = Database(app.config["DATABASE_URL"], app.config.get("DATABASE_TIMEOUT", DEFAULT_TIMEOUT_S))
     app.extensions[EXTENSION_KEY] = database
     app.teardown_appcontext(_close_request_session)
     return database

@@ -104,8 +104,8 @@ def _dispose_engines(monkeypatch: pytest.MonkeyPatch) -> Iterator[None]:
     made = []
     original = db.make_engine
 
-    def tracked(url: str):
-        engine = original(url)
+    def tracked(*args, **kwargs):
+        engine = original(*args, **kwargs)
         made.append(engine)
         return engine
 

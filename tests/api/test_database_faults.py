@@ -1,0 +1,176 @@
+"""The database down, silent, busy or back again: 503 problems (never a hang, never a
+stack trace), and the service recovers by itself when the database returns.
+
+A fit-check with the plug and head inline needs no database at all and keeps working.
+"""
+from __future__ import annotations
+
+import socket
+import threading
+from contextlib import closing
+
+import pytest
+from sqlalchemy import text
+from sqlalchemy.engine import make_url
+
+from schemas.problem import PROBLEM_MEDIA_TYPE
+from service import create_app, db
+from tests import postgres
+
+UNAVAILABLE = "tag:plugfit,2025:problem/database-unavailable"
+# A whole request must come back well within this, or the test fails instead of hanging CI.
+HANG_GUARD_S = 60
+FLUSH_CHECK = {"plug": {"thread": "M14x1.25", "seat": "flat", "reach": 19.0, "gasket_thickness": 1.5, "firing_end": 4.0},
+               "head": {"thread": "M14x1.25", "seat": "flat", "port_depth": 17.5, "piston_clearance": 8.0}}
+PLUG = {"sku": "FAULT-1", "thread": "M14x1.25", "seat": "flat", "reach": 19.0}
+
+
+def unused_port() -> int:
+    with closing(socket.socket()) as probe:
+        probe.bind(("127.0.0.1", 0))
+        return probe.getsockname()[1]
+
+
+def answered(call):
+    """Run `call()` in a thread; fail (rather than hang) if it has not returned in time."""
+    outcome = {}
+    worker = threading.Thread(target=lambda: outcome.setdefault("response", call()), daemon=True)
+    worker.start()
+    worker.join(HANG_GUARD_S)
+    assert "response" in outcome, f"the request hung for {HANG_GUARD_S} s"
+    return outcome["response"]
+
+
+def unavailable(response) -> dict:
+    assert response.status_code == 503, response.get_data(as_text=True)
+    assert response.mimetype == PROBLEM_MEDIA_TYPE
+    body = response.get_json(force=True)
+    assert body["type"] == UNAVAILABLE
+    text_sent = response.get_data(as_text=True)
+    for leak in ("Traceback", "psycopg", "sqlalchemy", "127.0.0.1"):
+        assert leak not in text_sent
+    return body
+
+
+def test_with_no_database_server_reads_and_writes_are_503_problems_and_inline_checks_still_work(api_key):
+    app = create_app({"TESTING": True, "DATABASE_TIMEOUT": 2,
+                      "DATABASE_URL": f"postgresql+psycopg://plugfit@127.0.0.1:{unused_port()}/plugfit"})
+    client = app.test_client()
+    unavailable(answered(lambda: client.get("/v1/health")))
+    unavailable(answered(lambda: client.get("/v1/plugs")))
+    response = unavailable(answered(lambda: client.get("/v1/plugs/FAULT-1")))
+    assert response["status"] == 503
+    busy = answered(lambda: client.post("/v1/plugs", json=PLUG, headers={"Authorization": f"Bearer {api_key}"}))
+    unavailable(busy)
+    assert busy.headers["Retry-After"] == "1"
+    checked = answered(lambda: client.post("/v1/fit-checks", json=FLUSH_CHECK))
+    assert checked.status_code == 200
+    assert checked.get_json()["verdict"] == "pass"
+
+
+def test_a_database_host_that_accepts_but_never_answers_costs_the_timeout_then_a_503():
+    with closing(socket.socket()) as silent:
+        silent.bind(("127.0.0.1", 0))
+        silent.listen(8)  # the kernel completes the handshake; nobody ever speaks
+        port = silent.getsockname()[1]
+        app = create_app({"TESTING": True, "DATABASE_TIMEOUT": 1,
+                          "DATABASE_URL": f"postgresql+psycopg://plugfit@127.0.0.1:{port}/plugfit"})
+        unavailable(answered(lambda: app.test_client().get("/v1/plugs/FAULT-1")))
+
+
+def test_a_write_that_waits_longer_than_the_timeout_for_a_lock_is_a_503_and_a_retry_succeeds(database_url, auth):
+    app = create_app({"TESTING": True, "DATABASE_URL": database_url, "DATABASE_TIMEOUT": 1})
+    client = app.test_client()
+    holder = db.make_engine(database_url)
+    try:
+        with holder.connect() as connection:
+            if connection.dialect.name == "sqlite":
+                connection.exec_driver_sql("BEGIN IMMEDIATE")  # SQLite's one write lock
+            else:
+                connection.execute(text("LOCK TABLE plugs IN EXCLUSIVE MODE"))
+            unavailable(answered(lambda: client.post("/v1/plugs", json=PLUG, headers=auth)))
+            connection.rollback()
+    finally:
+        holder.dispose()
+    assert client.post("/v1/plugs", json=PLUG, headers=auth).status_code == 201
+    assert client.get("/v1/plugs/FAULT-1/history").get_json()[0]["action"] == "create"
+
+
+class Proxy:
+    """A TCP relay to the real database that can be taken down and brought back, as a
+    database restart or a network cut looks to the service."""
+
+    def __init__(self, target_host: str, target_port: int) -> None:
+        self.target = (target_host, target_port)
+        self.port = unused_port()
+        self.listener: socket.socket | None = None
+        self.sockets: list[socket.socket] = []
+        self.lock = threading.Lock()
+
+    def up(self) -> None:
+        self.listener = socket.create_server(("127.0.0.1", self.port))
+        threading.Thread(target=self._accept, args=(self.listener,), daemon=True).start()
+
+    def down(self) -> None:
+        """Stop listening and cut every relayed connection."""
+        assert self.listener is not None
+        try:
+            self.listener.shutdown(socket.SHUT_RDWR)  # wakes the accept() blocked in its thread
+        except OSError:
+            pass
+        self.listener.close()
+        self.listener = None
+        with self.lock:
+            for sock in self.sockets:
+                try:
+                    sock.shutdown(socket.SHUT_RDWR)
+                except OSError:
+                    pass
+                sock.close()
+            self.sockets.clear()
+
+    def _accept(self, listener: socket.socket) -> None:
+        while True:
+            try:
+                client, _ = listener.accept()
+            except OSError:
+                return
+            upstream = socket.create_connection(self.target)
+            with self.lock:
+                self.sockets += [client, upstream]
+            for source, sink in ((client, upstream), (upstream, client)):
+                threading.Thread(target=self._pump, args=(source, sink), daemon=True).start()
+
+    @staticmethod
+    def _pump(source: socket.socket, sink: socket.socket) -> None:
+        try:
+            while data := source.recv(65536):
+                sink.sendall(data)
+        except OSError:
+            pass
+
+
+@pytest.mark.postgres
+def test_the_service_recovers_by_itself_when_the_database_comes_back(database_url, auth):
+    if postgres.server_url() is None:
+        pytest.skip("needs a PostgreSQL server (PLUGFIT_TEST_POSTGRES_URL); SQLite has no server to lose")
+    real = make_url(database_url)
+    proxy = Proxy(real.host or "127.0.0.1", real.port or 5432)
+    app = create_app({"TESTING": True, "DATABASE_TIMEOUT": 2,
+                      "DATABASE_URL": real.set(host="127.0.0.1", port=proxy.port).render_as_string(False)})
+    client = app.test_client()
+    try:
+        unavailable(answered(lambda: client.get("/v1/health")))           # down from the start
+        proxy.up()
+        assert answered(lambda: client.get("/v1/health")).status_code == 200
+        assert client.post("/v1/plugs", json=PLUG, headers=auth).status_code == 201
+        proxy.down()                                                        # the pooled connection dies
+        unavailable(answered(lambda: client.get("/v1/plugs/FAULT-1")))
+        proxy.up()                                                          # and comes back: no restart
+        again = answered(lambda: client.get("/v1/plugs/FAULT-1"))
+        assert again.status_code == 200
+        assert again.get_json()["sku"] == "FAULT-1"
+    finally:
+        db.get_database(app).engine.dispose()
+        if proxy.listener is not None:
+            proxy.down()
