@@ -7,6 +7,7 @@ writer's output through `FitResultSchema` so the two cannot drift apart.
 """
 from __future__ import annotations
 
+from functools import lru_cache
 from typing import Any
 
 from marshmallow import Schema, fields, validate
@@ -84,24 +85,27 @@ class FitResultSchema(Schema):
     catalog_version = fields.String(required=True)
 
 
-def _round(value: float, unit: str) -> float:
-    return round(value, _DIGITS.get(unit, 4))
+@lru_cache(maxsize=64)
+def _converter(kind: str, system: str) -> tuple[str, float, float, int]:
+    """(output unit, scale, offset, digits) for one kind in one unit system, worked out
+    once: a result carries dozens of quantities and a batch thousands of results."""
+    unit = output_unit(kind, system)
+    offset = from_canonical(0.0, kind, system)
+    scale = from_canonical(1.0, kind, system) - offset
+    return unit, scale, offset, _DIGITS.get(unit, 4)
 
 
 def _geometry_entry(bounds: Bounds, system: str) -> dict[str, Any]:
-    unit = output_unit("length", system)
-    if system == "metric":
-        digits = _DIGITS["mm"]
-        return {"nominal": round(bounds.nominal, digits), "min": round(bounds.min, digits),
-                "max": round(bounds.max, digits), "rss_min": round(bounds.rss_min, digits),
-                "rss_max": round(bounds.rss_max, digits), "unit": unit}
-    return {name: _round(from_canonical(getattr(bounds, name), "length", system), unit)
-            for name in ("nominal", "min", "max", "rss_min", "rss_max")} | {"unit": unit}
+    unit, scale, _, digits = _converter("length", system)
+    nominal, low, high, rss_low, rss_high = bounds
+    return {"nominal": round(nominal * scale, digits), "min": round(low * scale, digits),
+            "max": round(high * scale, digits), "rss_min": round(rss_low * scale, digits),
+            "rss_max": round(rss_high * scale, digits), "unit": unit}
 
 
 def _quantity(value: float, kind: str, system: str) -> dict[str, Any]:
-    unit = output_unit(kind, system)
-    return {"value": _round(from_canonical(value, kind, system), unit), "unit": unit}
+    unit, scale, offset, digits = _converter(kind, system)
+    return {"value": round(value * scale + offset, digits), "unit": unit}
 
 
 def render_message(template: str, values: dict[str, dict[str, Any]]) -> str:
@@ -126,9 +130,8 @@ def result_document(result: FitResult, system: str = "metric") -> dict[str, Any]
                          "message": render_message(finding.message, values), "values": values})
     torque = None
     if result.torque is not None:
-        unit = output_unit("torque", system)
-        torque = {"min": _round(from_canonical(result.torque.min_nm, "torque", system), unit),
-                  "max": _round(from_canonical(result.torque.max_nm, "torque", system), unit),
+        unit, scale, _, digits = _converter("torque", system)
+        torque = {"min": round(result.torque.min_nm * scale, digits), "max": round(result.torque.max_nm * scale, digits),
                   "unit": unit, "turn_angle_deg": result.torque.turn_angle_deg, "source": result.torque.source}
     return {
         "verdict": result.verdict,

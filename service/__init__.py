@@ -6,18 +6,23 @@ can build one for whatever PLUGFIT_DATABASE_URL says.
 """
 from __future__ import annotations
 
-from typing import Any, Mapping
+from typing import TYPE_CHECKING, Any, Mapping
 
-from flask import Flask
+if TYPE_CHECKING:  # pragma: no cover
+    from flask import Flask
 
 API_TITLE = "plugfit"
 API_VERSION = "1"
 
 
-def create_app(test_config: Mapping[str, Any] | None = None) -> Flask:
+def create_app(test_config: Mapping[str, Any] | None = None) -> "Flask":
     """Build the app: class defaults, then PLUGFIT_* environment variables, then
     `test_config` (used by tests to point at a temporary database)."""
     import logging as std_logging
+
+    # Imported here, not at the top: `import service.fitment` (the embedded CLI, the
+    # engine's users) must not pay for Flask.
+    from flask import Flask
 
     from service import auth, config, db, limits, problems
     from service import logging as service_logging

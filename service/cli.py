@@ -1,8 +1,8 @@
 """The `plugfit` command.
 
 `main` is a click group. Each command lives in its own module under `service/commands/`
-and exposes `command` (a click.Command or click.Group); list the module in
-COMMAND_MODULES to register it. Commands that need the database or settings use
+and exposes `command` (a click.Command or click.Group); add its name and module to
+`_COMMAND_NAMES` to register it (it is imported only when used). Commands that need the database or settings use
 `service.commands.common.with_app`, which builds the app from PLUGFIT_* environment
 variables when the command runs, never at import.
 """
@@ -13,19 +13,35 @@ from importlib import import_module
 
 import click
 
-COMMAND_MODULES: tuple[str, ...] = (
-    "service.commands.database",
-    "service.commands.seed",
-    "service.commands.serve",
-    "service.commands.keys",
-    "service.commands.check",
-    "service.commands.validate",
-    "service.commands.imports",
-    "service.commands.exports",
-)
 
 
-@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+class LazyGroup(click.Group):
+    """Imports a command's module only when that command runs (or help lists it), so
+    `plugfit validate` in a CI job does not import Flask and SQLAlchemy first."""
+
+    def list_commands(self, ctx: click.Context) -> list[str]:
+        return sorted(set(super().list_commands(ctx)) | set(_COMMAND_NAMES))
+
+    def get_command(self, ctx: click.Context, name: str) -> click.Command | None:
+        if name not in self.commands and name in _COMMAND_NAMES:
+            self.add_command(import_module(_COMMAND_NAMES[name]).command, name)
+        return super().get_command(ctx, name)
+
+
+# The command name each module registers (the module's `command` may be a group).
+_COMMAND_NAMES: dict[str, str] = {
+    "db": "service.commands.database",
+    "seed": "service.commands.seed",
+    "serve": "service.commands.serve",
+    "keys": "service.commands.keys",
+    "check": "service.commands.check",
+    "validate": "service.commands.validate",
+    "import": "service.commands.imports",
+    "export": "service.commands.exports",
+}
+
+
+@click.group(cls=LazyGroup, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(package_name="plugfit")
 def main() -> None:
     """plugfit: does this spark plug fit this cylinder-head port?
@@ -33,10 +49,6 @@ def main() -> None:
     Settings come from PLUGFIT_* environment variables (see README.md); the database
     defaults to SQLite under instance/.
     """
-
-
-for _module_name in COMMAND_MODULES:
-    main.add_command(import_module(_module_name).command)
 
 
 if __name__ == "__main__":  # pragma: no cover - `python -m service.cli`

@@ -1,1 +1,1 @@
-"""One module per `plugfit` sub-command; listed in `service.cli.COMMAND_MODULES`."""
+"""One module per `plugfit` sub-command; listed in `service.cli._COMMAND_NAMES`."""
