@@ -1,0 +1,17 @@
+"""Every problem type the service can send is listed in the README's table of errors,
+so clients that switch on `type` know them all."""
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+from service.problems import TYPES_BY_STATUS
+
+REPO = Path(__file__).resolve().parents[2]
+
+
+def test_every_problem_type_the_service_sends_is_in_the_readme():
+    code = " ".join(path.read_text() for path in (REPO / "service").rglob("*.py"))
+    sent = set(TYPES_BY_STATUS.values()) | set(re.findall(r'slug="([a-z-]+)"', code))
+    documented = set(re.findall(r"problem/([a-z-]+)`", (REPO / "README.md").read_text()))
+    assert sent <= documented, f"not in the README's table of errors: {sorted(sent - documented)}"
