@@ -13,12 +13,13 @@ never reaches here.
 from __future__ import annotations
 
 from dataclasses import asdict, dataclass
+from types import SimpleNamespace
 from typing import Any, Callable, Iterator, Sequence
 
 from sqlalchemy import delete, insert, select
 from sqlalchemy.orm import Session
 
-from service import repository
+from service import history, repository
 from service.repository import Repository
 
 UPSERT, REPLACE = "upsert", "replace"
@@ -76,11 +77,16 @@ def apply_import(session: Session, resource: str, documents: Sequence[dict[str, 
     key_column = getattr(model, key)
     report = ImportReport(resource, mode, len(documents))
     by_key = {document[key]: document for document in documents}
+    # Every change goes into the history too, in this same transaction (service.history).
+    changes: list[history.Change] = []
 
     if mode == REPLACE:
         stored = session.scalars(select(key_column)).all()
         gone = [identifier for identifier in stored if identifier not in by_key]
         for chunk in _chunks(gone):
+            for row in session.scalars(select(model).where(key_column.in_(chunk))):
+                changes.append(history.Change(getattr(row, key), mapping.document_of(row), None,
+                                              version_before=row.version))
             session.execute(delete(model).where(key_column.in_(chunk)),
                             execution_options={"synchronize_session": False})
         report.deleted = len(gone)
@@ -88,6 +94,7 @@ def apply_import(session: Session, resource: str, documents: Sequence[dict[str, 
     new_rows: list[dict[str, Any]] = []
     for chunk in _chunks(list(by_key)):
         existing = {getattr(row, key): row for row in session.scalars(select(model).where(key_column.in_(chunk)))}
+        overwritten = []
         for identifier in chunk:
             columns = mapping.columns_from(by_key[identifier])
             row = existing.get(identifier)
@@ -96,16 +103,23 @@ def apply_import(session: Session, resource: str, documents: Sequence[dict[str, 
             elif all(getattr(row, column) == value for column, value in columns.items()):
                 report.unchanged += 1
             else:
+                overwritten.append((row, mapping.document_of(row), row.version))
                 for column, value in columns.items():
                     if column != key:
                         setattr(row, column, value)
                 report.changed += 1
         session.flush()
+        changes += [history.Change(getattr(row, key), before, mapping.document_of(row), version_before, row.version)
+                    for row, before, version_before in overwritten]
         if progress is not None:
             progress(len(chunk))
     for chunk in _chunks(new_rows):
         session.execute(insert(model), list(chunk))
     report.added = len(new_rows)
+    # A new row starts at version 1 (the column's server default).
+    changes += [history.Change(columns[key], None, mapping.document_of(SimpleNamespace(**columns)), None, 1)
+                for columns in new_rows]
+    history.record_changes(session, history.KIND_BY_KEY[key], changes, source=history.IMPORT)
     session.flush()
     return report
 

@@ -166,3 +166,40 @@ def test_the_database_itself_refuses_to_rewrite_history(app, client, auth, state
         with engine.begin() as connection:
             connection.execute(text(statement))
     assert history(client, f"/v1/plugs/{PLUG['sku']}")[0]["actor"] == "test-suite"
+
+
+IMPORT_HEADER = "sku,thread,seat,reach_mm,quantity_on_hand\n"
+
+
+def import_plugs(client, auth, rows: str, query: str = ""):
+    response = client.post(f"/v1/imports/plugs{query}", data=IMPORT_HEADER + rows,
+                           headers={**auth, "Content-Type": "text/csv"})
+    assert response.status_code == 200, response.get_data(as_text=True)
+    return response.get_json()
+
+
+def test_an_import_records_each_record_it_adds_changes_and_deletes_and_nothing_for_the_unchanged(client, auth):
+    import_plugs(client, auth, "IMP-1,M14x1.25,flat,19,5\nIMP-2,M14x1.25,flat,19,5\nIMP-3,M14x1.25,flat,19,5\n")
+    # replace: IMP-1 unchanged, IMP-2 changed, IMP-3 gone, IMP-4 new
+    report = import_plugs(client, auth, "IMP-1,M14x1.25,flat,19,5\nIMP-2,M14x1.25,flat,19,7\n"
+                                        "IMP-4,M14x1.25,flat,12.7,1\n", "?mode=replace")
+    assert (report["unchanged"], report["changed"], report["deleted"], report["added"]) == (1, 1, 1, 1)
+
+    def actions(sku):
+        return [(e["action"], e["source"], e["actor"], e["version_before"], e["version_after"])
+                for e in history(client, f"/v1/plugs/{sku}", order="oldest_first")]
+
+    assert actions("IMP-1") == [("create", "import", "test-suite", None, 1)]
+    assert actions("IMP-2") == [("create", "import", "test-suite", None, 1), ("replace", "import", "test-suite", 1, 2)]
+    assert actions("IMP-3") == [("create", "import", "test-suite", None, 1), ("delete", "import", "test-suite", 1, None)]
+    assert actions("IMP-4") == [("create", "import", "test-suite", None, 1)]
+    changed = history(client, "/v1/plugs/IMP-2")[0]
+    assert (changed["before"]["quantity_on_hand"], changed["after"]["quantity_on_hand"]) == (5, 7)
+    # What the history shows after a create is what GET shows.
+    assert history(client, "/v1/plugs/IMP-4")[0]["after"] == client.get("/v1/plugs/IMP-4").get_json()
+    assert history(client, "/v1/plugs/IMP-3")[0]["after"] is None
+
+
+def test_a_dry_run_import_records_no_history(client, auth):
+    import_plugs(client, auth, "DRY-1,M14x1.25,flat,19,5\n", "?dry_run=true")
+    problem(client.get("/v1/plugs/DRY-1/history"), 404)
