@@ -38,7 +38,7 @@ class Defaults:
     # The server (`plugfit serve`, gunicorn); see service/serving.py for the worker model.
     # Address and port to listen on.
     BIND: str = "127.0.0.1:8000"
-    # Worker processes; 0 (the default) means one per CPU core.
+    # Worker processes; 0 (the default) means one per CPU core, plus one.
     WORKERS: int = 0
     # Threads per worker; above 1 selects gunicorn's gthread workers.
     THREADS: int = 1

@@ -1,13 +1,19 @@
 """gunicorn's settings for plugfit, from the same PLUGFIT_* variables as everything else.
 
 Worker model: gunicorn's pre-fork `sync` workers, one request at a time each, by
-default one per CPU core (PLUGFIT_WORKERS=0 means "one per core"). A fit-check is
-pure CPU in Python (the GIL lets one thread compute at a time) and its database reads
-take well under a millisecond, so threads add switching, not throughput (the README
-has the figures of benchmarks/bench_load.py for the mixes tried). Set
-PLUGFIT_THREADS above 1 for gthread workers instead: worth it when the database is
-remote (PostgreSQL over a network), where a request waits on I/O, or when clients hold
-keep-alive connections open without a buffering proxy in front.
+default one per CPU core plus one (PLUGFIT_WORKERS=0 means that). A fit-check is pure
+CPU in Python (the GIL lets one thread compute at a time) and its database reads take
+well under a millisecond, so threads add switching, not throughput; the spare worker
+keeps the cores busy while one waits on the database. On the project's 2-core machine
+2, 3 and 5 sync workers measured within a few per cent of each other, gthread mixes
+no better (benchmarks/bench_load.py; the figures are in the README).
+
+PLUGFIT_THREADS above 1 selects gthread workers: worth it when the database is remote
+(PostgreSQL over a network), where a request waits on I/O, or when clients keep
+connections alive without a buffering proxy in front. Then mind worker recycling
+(PLUGFIT_MAX_REQUESTS): a gthread worker that retires closes its idle keep-alive
+connections, and a client that sends on one just then sees a reset (measured: 18 in
+20,000 requests with 2 workers x 4 threads); set PLUGFIT_MAX_REQUESTS very high there.
 
 Each worker builds its own app, engine and connection pool after the fork (no
 `preload_app`), so no database connection crosses a process boundary. A worker holds
@@ -30,8 +36,8 @@ SERVER_SETTINGS: tuple[str, ...] = (
 
 
 def default_workers(cpu_count: int | None) -> int:
-    """One sync worker per core: the work is CPU-bound (see the module docstring)."""
-    return max(1, cpu_count or 1)
+    """One sync worker per core and a spare: the work is CPU-bound (module docstring)."""
+    return max(1, cpu_count or 1) + 1
 
 
 def server_settings(environ: Mapping[str, str] | None = None, **overrides: Any) -> dict[str, Any]:

@@ -39,7 +39,7 @@ def run_gunicorn(settings: dict[str, Any]) -> None:
 @click.option("--host", help="Address to listen on.  [default: from PLUGFIT_BIND, 127.0.0.1]")
 @click.option("--port", type=click.IntRange(1, 65535), help="Port to listen on.  [default: from PLUGFIT_BIND, 8000]")
 @click.option("--workers", type=click.IntRange(1, 64),
-              help="Worker processes.  [default: PLUGFIT_WORKERS, else one per CPU core]")
+              help="Worker processes.  [default: PLUGFIT_WORKERS, else one per CPU core plus one]")
 @click.option("--threads", type=click.IntRange(1, 64),
               help="Threads per worker; above 1 means gthread workers.  [default: PLUGFIT_THREADS, else 1]")
 @with_app

@@ -6,11 +6,11 @@ import pytest
 from service import config, serving
 
 
-def test_without_variables_the_server_listens_on_loopback_port_8000_with_one_sync_worker_per_core(monkeypatch):
+def test_without_variables_the_server_listens_on_loopback_port_8000_with_a_sync_worker_per_core_and_one(monkeypatch):
     monkeypatch.setattr(serving.os, "cpu_count", lambda: 2)
     settings = serving.gunicorn_settings({})
     assert settings["bind"] == "127.0.0.1:8000"  # the contract's `plugfit serve` default
-    assert settings["workers"] == 2
+    assert settings["workers"] == 3
     assert settings["worker_class"] == "sync"
     assert settings["threads"] == 1
     assert settings["preload_app"] is False  # each worker opens its own connections after the fork
