@@ -88,6 +88,25 @@ def test_a_write_that_lands_between_the_etag_check_and_the_update_still_gets_412
     assert client.get(url).get_json()[field] == values[1]
 
 
+def test_a_delete_racing_past_the_etag_check_is_a_412_and_the_rivals_change_survives(app, client, auth, monkeypatch):
+    url = f"/v1/plugs/{PLUG['sku']}"
+    tag = client.post("/v1/plugs", json=PLUG, headers=auth).headers["ETag"]
+    original_delete = repository.Repository.delete
+    rivals = []
+
+    def delete_after_a_rival_commits(self, row):
+        rival = create_app({"TESTING": True, "DATABASE_URL": app.config["DATABASE_URL"]}).test_client()
+        rivals.append(rival.put(url, json={**PLUG, "quantity_on_hand": 99}, headers=auth).status_code)
+        return original_delete(self, row)
+
+    monkeypatch.setattr(repository.Repository, "delete", delete_after_a_rival_commits)
+    problem(client.delete(url, headers={**auth, "If-Match": tag}), 412)
+    monkeypatch.undo()
+    assert rivals == [200]
+    assert client.get(url).get_json()["quantity_on_hand"] == 99
+    assert [entry["action"] for entry in history(client, url)] == ["replace", "create"]
+
+
 def test_without_if_match_the_last_write_wins(client, auth):
     url = f"/v1/plugs/{PLUG['sku']}"
     client.post("/v1/plugs", json=PLUG, headers=auth)
