@@ -172,3 +172,13 @@ class Choice(fields.String):
 
 SEAT_ALIASES = {"gasket": "flat", "taper": "conical", "tapered": "conical"}
 
+
+
+class WholeNumber(fields.Integer):
+    """A count: an integer, or a number or string that is one ("5", 5.0). marshmallow's
+    lenient Integer truncates 2.5 to 2 without a word; a count of 2.5 is an error."""
+
+    def _validated(self, value: Any) -> int:
+        if isinstance(value, float) and not value.is_integer():
+            raise self.make_error("invalid")
+        return super()._validated(value)

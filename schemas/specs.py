@@ -17,7 +17,7 @@ from service.fitment.defaults import LUBRICATIONS, STACKS
 from service.fitment.designation import format_designation, parse_designation
 from service.fitment.model import HeatRange, HeatRangeBand, Options, PlugSpec, PortSpec, Span
 
-from .fields import SEAT_ALIASES, Choice, Length, Quantity
+from .fields import SEAT_ALIASES, Choice, Length, Quantity, WholeNumber
 
 # The contract's identifier rule for sku and head_id.
 IDENTIFIER = validate.Regexp(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$",
@@ -142,7 +142,7 @@ class StoredPlugSchema(PlugDimensionsSchema):
 
     sku = fields.String(required=True, validate=IDENTIFIER, metadata={"example": "DEMO-14F-19-R"})
     description = fields.String(load_default="", validate=validate.Length(max=500))
-    quantity_on_hand = fields.Integer(load_default=0, validate=validate.Range(0, 10_000_000))
+    quantity_on_hand = WholeNumber(load_default=0, validate=validate.Range(0, 10_000_000))
     location = fields.String(allow_none=True, validate=validate.Length(max=100))
     thread = Thread(required=True)
     seat = Choice(SEATS, SEAT_ALIASES, required=True)

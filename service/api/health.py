@@ -37,5 +37,6 @@ class Health(MethodView):
             db.get_database().ping()
         except SQLAlchemyError as error:
             log.error("database unreachable", extra={"fields": {"error": type(error).__name__}})
-            problems.abort(503, "The database does not answer.", slug="database-unavailable")
+            problems.abort(503, "The database does not answer.", slug="database-unavailable",
+                           headers={"Retry-After": "1"})
         return {"status": "ok", "database": "ok", "version": package_version()}

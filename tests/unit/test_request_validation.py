@@ -102,3 +102,15 @@ def test_a_stored_head_round_trips_through_dump_and_load():
     assert again == loaded
     assert loaded["intake_temperature"] == pytest.approx(318.15)  # 45 degC, bare numbers are degC (contract)
     assert loaded["material"] == "aluminium"
+
+
+@pytest.mark.parametrize(("quantity", "stored"), [(5, 5), ("5", 5), (5.0, 5)])
+def test_a_stock_quantity_is_a_whole_number(quantity, stored):
+    assert StoredPlugSchema().load(dict(PLUG, sku="A-1", quantity_on_hand=quantity))["quantity_on_hand"] == stored
+
+
+@pytest.mark.parametrize("quantity", [2.5, 2.5e-42, -1, "two"])
+def test_a_fractional_or_negative_stock_quantity_is_refused_not_truncated(quantity):
+    with pytest.raises(ValidationError) as caught:
+        StoredPlugSchema().load(dict(PLUG, sku="A-1", quantity_on_hand=quantity))
+    assert "quantity_on_hand" in caught.value.messages
