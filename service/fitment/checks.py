@@ -250,9 +250,12 @@ def check_thread_strength(ctx: FitContext) -> None:
         ctx.assume("thread strength: peak_pressure not given: the gas load is left out")
     diameter, pitch = size
     limits = port_thread_limits(diameter, pitch)
-    gasket, depth = ctx.gasket.bounds(), ctx.port_depth.bounds()
-    engaged = engaged_length_mm(reach_min_mm=plug.reach.nominal - plug.reach.minus, standoff_min_mm=gasket.min,
-                                standoff_max_mm=gasket.max, port_depth_min_mm=depth.min,
+    # Worst-case ends of the stand-off and the port depth, as `Stack.bounds` computes them.
+    gasket, depth = ctx.gasket, ctx.port_depth
+    engaged = engaged_length_mm(reach_min_mm=plug.reach.nominal - plug.reach.minus,
+                                standoff_min_mm=gasket.nominal - gasket.down,
+                                standoff_max_mm=gasket.nominal + gasket.up,
+                                port_depth_min_mm=depth.nominal - depth.down,
                                 allowances=EngagementAllowances.common_practice(pitch))
     result = thread_strength(
         torque_nm=torque, lubrication=options.lubrication, seat=port.seat, nominal_diameter_mm=diameter,

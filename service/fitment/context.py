@@ -7,6 +7,7 @@ defaults and requirements the same way.
 from __future__ import annotations
 
 from functools import lru_cache
+from operator import itemgetter
 
 from .catalog import Catalog, TorqueGuide
 from .defaults import DYNAMIC_ALLOWANCE_MM, FLUSH_TOLERANCE_MM, MIN_CLEARANCE_MM, Default
@@ -29,10 +30,18 @@ _NOTES = {name: _default_note(name, default) for name, default in (
     ("dynamic_allowance", DYNAMIC_ALLOWANCE_MM))}
 
 
+# Which entry of a `Bounds` a verdict reads, per stack option (see `FitContext.low`).
+_WORST_CASE_LOW, _WORST_CASE_HIGH = itemgetter(1), itemgetter(2)  # Bounds.min, Bounds.max
+_RSS_LOW, _RSS_HIGH = itemgetter(3), itemgetter(4)  # Bounds.rss_min, Bounds.rss_max
+
+_SEVERITY_RANK = {"info": 0, "warn": 1, "fail": 2}
+_new = tuple.__new__
+
+
 class FitContext:
     __slots__ = ("plug", "port", "options", "catalog", "findings", "analysis", "assumptions",
                  "torque", "gasket", "port_depth", "port_depth_long", "thread_end", "tip",
-                 "geometry", "_defaults_noted")
+                 "geometry", "worst", "low", "high")
 
     def __init__(self, plug: PlugSpec, port: PortSpec, options: Options, catalog: Catalog) -> None:
         self.plug = plug
@@ -51,41 +60,54 @@ class FitContext:
         self.port_depth_long: Stack | None = None
         self.thread_end: Stack | None = None
         self.tip: Stack | None = None
-        self._defaults_noted: set[str] = set()
+        # The worst severity found so far (0 info, 1 warn, 2 fail), kept as findings are
+        # added so the verdict needs no second pass over them.
+        self.worst = 0
+        # `low(entry)` and `high(entry)`: the bounds a verdict uses, worst case unless the
+        # request asked for RSS. Chosen once here as C-level getters, because the checks
+        # call them several times per fit and a method call costs more than the lookup.
+        if options.stack == "rss":
+            self.low, self.high = _RSS_LOW, _RSS_HIGH
+        else:
+            self.low, self.high = _WORST_CASE_LOW, _WORST_CASE_HIGH
 
     # --- reporting -------------------------------------------------------------------
     def add(self, code: str, check: str, severity: str, message: str, **values: Value) -> None:
-        self.findings.append(Finding(code, check, severity, message, values))
+        rank = _SEVERITY_RANK[severity]
+        if rank > self.worst:
+            self.worst = rank
+        # tuple.__new__ skips the NamedTuple's Python-level __new__; same fields, same order.
+        self.findings.append(_new(Finding, (code, check, severity, message, values)))
 
     def not_checked(self, check: str, missing: str) -> None:
         """Record that `check` could not run; a required check turns this into a fail."""
-        severity = "fail" if check in self.options.require else "info"
-        self.findings.append(_not_checked(check, missing, severity))
+        if check in self.options.require:
+            self.worst = 2
+            self.findings.append(_not_checked(check, missing, "fail"))
+        else:
+            self.findings.append(_not_checked(check, missing, "info"))
 
     def assume(self, text: str) -> None:
         self.assumptions.append(text)
 
     # --- options with their documented defaults ---------------------------------------
-    def _option(self, name: str, given: float | None, default: Default) -> float:
-        if given is not None:
-            return given
-        if name not in self._defaults_noted:
-            self._defaults_noted.add(name)
-            self.assumptions.append(_NOTES[name])
+    def _default(self, name: str, default: Default) -> float:
+        # Each default is named once in the assumptions, however many checks use it. The
+        # note strings are shared constants, so the membership test is an identity check
+        # on a short list (cheaper than keeping a set per fit).
+        note = _NOTES[name]
+        if note not in self.assumptions:
+            self.assumptions.append(note)
         return default.value
 
     def min_clearance(self) -> float:
-        return self._option("min_clearance", self.options.min_clearance, MIN_CLEARANCE_MM)
+        given = self.options.min_clearance
+        return given if given is not None else self._default("min_clearance", MIN_CLEARANCE_MM)
 
     def flush_tolerance(self) -> float:
-        return self._option("flush_tolerance", self.options.flush_tolerance, FLUSH_TOLERANCE_MM)
+        given = self.options.flush_tolerance
+        return given if given is not None else self._default("flush_tolerance", FLUSH_TOLERANCE_MM)
 
     def dynamic_allowance(self) -> float:
-        return self._option("dynamic_allowance", self.options.dynamic_allowance, DYNAMIC_ALLOWANCE_MM)
-
-    def low(self, entry: Bounds) -> float:
-        """The low bound a verdict uses: worst case unless the request asked for RSS."""
-        return entry.rss_min if self.options.stack == "rss" else entry.min
-
-    def high(self, entry: Bounds) -> float:
-        return entry.rss_max if self.options.stack == "rss" else entry.max
+        given = self.options.dynamic_allowance
+        return given if given is not None else self._default("dynamic_allowance", DYNAMIC_ALLOWANCE_MM)

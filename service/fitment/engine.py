@@ -36,8 +36,9 @@ def check_fit(plug: PlugSpec, port: PortSpec, options: Options | None, catalog: 
     derive(ctx)
     for check in CHECKS:
         check(ctx)
+    # The context tracked the worst severity as findings were added (see `FitContext.add`).
     return FitResult(
-        verdict=verdict_of(ctx.findings),
+        verdict=_VERDICTS[ctx.worst],
         thread=plug.thread,
         findings=ctx.findings,
         geometry=ctx.geometry,

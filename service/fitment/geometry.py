@@ -13,11 +13,14 @@ towards the chamber), built as tolerance stacks before any check runs.
 from __future__ import annotations
 
 from functools import lru_cache
+from math import sqrt
 
 from .catalog import ThreadSize
 from .context import FitContext
 from .model import Dim
-from .stack import ZERO, Stack
+from .stack import ZERO, Bounds, Stack
+
+_new = tuple.__new__
 
 
 def _standard_gasket(ctx: FitContext, thread: str, who: str) -> float | None:
@@ -66,30 +69,45 @@ def _clearance_stack(ctx: FitContext, from_seat: Dim | None, from_breakout: Dim 
 
 
 def derive(ctx: FitContext) -> None:
-    """Fill the context's stacks and `geometry` entries from whatever inputs exist."""
+    """Fill the context's stacks and `geometry` entries from whatever inputs exist.
+
+    Every check runs this first, so it is written for speed: a geometry entry is the
+    bounds of a difference, computed in one step by `_bounds_of_difference` rather than
+    by building the difference stack and then its bounds (the same arithmetic, half the
+    calls)."""
     plug, port, geometry = ctx.plug, ctx.port, ctx.geometry
-    ctx.gasket = _gasket(ctx)
-    ctx.port_depth = _port_depth(ctx)
-    if ctx.port_depth is not None:
-        ctx.port_depth_long = (port.port_depth_long_side
-                               if port.port_depth_long_side is not None else ctx.port_depth)
-    if plug.reach is not None and ctx.gasket is not None:
-        ctx.thread_end = plug.reach - ctx.gasket
-        if ctx.port_depth is not None:
-            geometry["thread_protrusion"] = (ctx.thread_end - ctx.port_depth).bounds()
-            geometry["thread_recess"] = (ctx.thread_end - ctx.port_depth_long).bounds()
-        if plug.firing_end is not None:
-            ctx.tip = ctx.thread_end + plug.firing_end
-            geometry["tip_position"] = ctx.tip.bounds()
-    if ctx.tip is None:
+    gasket = ctx.gasket = _gasket(ctx)
+    depth = ctx.port_depth = port.port_depth if port.port_depth is not None else _port_depth(ctx)
+    if depth is not None:
+        depth_long = ctx.port_depth_long = (port.port_depth_long_side
+                                            if port.port_depth_long_side is not None else depth)
+    reach = plug.reach
+    if reach is None or gasket is None:
         return
+    thread_end = ctx.thread_end = reach - gasket
+    if depth is not None:
+        geometry["thread_protrusion"] = _bounds_of_difference(thread_end, depth)
+        geometry["thread_recess"] = _bounds_of_difference(thread_end, depth_long)
+    if plug.firing_end is None:
+        return
+    tip = ctx.tip = thread_end + plug.firing_end
+    geometry["tip_position"] = tip.bounds()
     piston = _clearance_stack(ctx, port.seat_to_piston, port.piston_clearance)
     valve = _clearance_stack(ctx, port.seat_to_valve, port.valve_clearance)
     if piston is None and valve is None:
         return
     # Margin = obstacle - tip - dynamic allowance; the allowance is exact.
-    reserved = ctx.tip + Stack.exact(ctx.dynamic_allowance())
+    reserved = tip + Stack.exact(ctx.dynamic_allowance())
     if piston is not None:
-        geometry["piston_margin"] = (piston - reserved).bounds()
+        geometry["piston_margin"] = _bounds_of_difference(piston, reserved)
     if valve is not None:
-        geometry["valve_margin"] = (valve - reserved).bounds()
+        geometry["valve_margin"] = _bounds_of_difference(valve, reserved)
+
+
+def _bounds_of_difference(a: Stack, b: Stack) -> Bounds:
+    """`(a - b).bounds()` in one call: the same operations in the same order (see
+    `Stack.__sub__` and `Stack.bounds`), so the result is bit-for-bit the same."""
+    nominal, up, down, up_sq, down_sq = a[0] - b[0], a[1] + b[2], a[2] + b[1], a[3] + b[4], a[4] + b[3]
+    return _new(Bounds, (nominal, nominal - down, nominal + up,
+                         nominal - sqrt(down_sq) if down_sq else nominal,
+                         nominal + sqrt(up_sq) if up_sq else nominal))

@@ -19,6 +19,8 @@ from typing import NamedTuple
 
 from .threads import ThreadLimits, limits_6g_6H
 
+_new = tuple.__new__
+
 # tan 30°: the flank term of a 60° thread in the shear-area formulas (ISO 68-1 profile).
 TAN_30 = 0.57735
 
@@ -160,6 +162,10 @@ def conical_seat_nut_factor_multiplier(
     return 1.0 + seat_friction_share * (1.0 / math.sin(math.radians(half_angle_deg)) - 1.0)
 
 
+# The default taper's multiplier, worked out once: every conical-seat fit check uses it.
+_CONICAL_SEAT_MULTIPLIER = conical_seat_nut_factor_multiplier()
+
+
 def nut_factor(lubrication: str | None, seat: str) -> float:
     """K for this lubrication and seat; unknown lubrication values raise ValueError."""
     if lubrication is None:
@@ -169,7 +175,7 @@ def nut_factor(lubrication: str | None, seat: str) -> float:
     else:
         raise ValueError(f"unknown lubrication {lubrication!r}")
     if seat == "conical":
-        return base * conical_seat_nut_factor_multiplier()
+        return base * _CONICAL_SEAT_MULTIPLIER
     return base
 
 
@@ -205,12 +211,16 @@ def engaged_length_mm(
     `s`, so its minimum lies at one end of the stand-off's tolerance and both are tried.
     """
 
-    def overlap(standoff_mm: float) -> float:
-        thread_end = min(reach_min_mm - standoff_mm, port_depth_min_mm)
-        thread_start = max(allowances.thread_relief_mm - standoff_mm, allowances.lead_chamfer_mm)
-        return thread_end - thread_start - allowances.incomplete_thread_mm
-
-    return max(0.0, min(overlap(standoff_min_mm), overlap(standoff_max_mm)))
+    # overlap(s) = min(reach - s, D) - max(relief - s, chamfer) - incomplete, at both ends of
+    # the stand-off's tolerance; written out rather than as an inner function because
+    # every fit check runs it and a closure costs more than the arithmetic.
+    relief, chamfer, incomplete = (allowances.thread_relief_mm, allowances.lead_chamfer_mm,
+                                   allowances.incomplete_thread_mm)
+    at_min = (min(reach_min_mm - standoff_min_mm, port_depth_min_mm)
+              - max(relief - standoff_min_mm, chamfer) - incomplete)
+    at_max = (min(reach_min_mm - standoff_max_mm, port_depth_min_mm)
+              - max(relief - standoff_max_mm, chamfer) - incomplete)
+    return max(0.0, min(at_min, at_max))
 
 
 def thread_strength(
@@ -237,15 +247,7 @@ def thread_strength(
     # safety factor = thread strength / (preload + gas load), the two loads summed conservatively
     load = preload + gas
     safety = strength / load if load > 0.0 else math.inf
-    return ThreadStrength(
-        torque_nm=torque_nm,
-        nut_factor=k,
-        preload_n=preload,
-        gas_load_n=gas,
-        engaged_length_mm=engaged_length_mm,
-        shear_area_mm2=area,
-        shear_strength_mpa=shear_strength_mpa,
-        strip_strength_n=strength,
-        safety_factor=safety,
-        min_safety_factor=min_safety_factor,
-    )
+    # Positional through tuple.__new__: a NamedTuple built by keyword runs a Python-level
+    # __new__, and one is built per fit check. Order: the fields of `ThreadStrength`.
+    return _new(ThreadStrength, (torque_nm, k, preload, gas, engaged_length_mm, area, shear_strength_mpa,
+                                 strength, safety, min_safety_factor))
