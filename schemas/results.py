@@ -121,18 +121,48 @@ def render_message(template: str, values: dict[str, dict[str, Any]]) -> str:
     return text
 
 
-def result_document(result: FitResult, system: str = "metric") -> dict[str, Any]:
-    """The contract's result document for one check, in metric or imperial units."""
+def result_document(result: FitResult, system: str = "metric", shared: dict | None = None) -> dict[str, Any]:
+    """The contract's result document for one check, in metric or imperial units.
+
+    `shared`, when given, is an intern table for one batch: the parts that repeat from
+    result to result (findings without values such as NOT_CHECKED, the torque guide,
+    the assumptions and cautions) are then one read-only object each, built once and,
+    by `service.batch`, written as JSON once. Callers must not mutate the document.
+    """
+    if shared is None:
+        shared = {}
     findings = []
     for finding in result.findings:
-        values = {name: _quantity(value, kind, system) for name, (value, kind) in finding.values.items()}
+        finding_values = finding.values
+        if not finding_values:
+            key = ("finding", finding.code, finding.check, finding.severity, finding.message)
+            document = shared.get(key)
+            if document is None:
+                document = shared[key] = {"code": finding.code, "check": finding.check,
+                                          "severity": finding.severity, "message": finding.message, "values": {}}
+            findings.append(document)
+            continue
+        values = {name: _quantity(value, kind, system) for name, (value, kind) in finding_values.items()}
         findings.append({"code": finding.code, "check": finding.check, "severity": finding.severity,
                          "message": render_message(finding.message, values), "values": values})
     torque = None
-    if result.torque is not None:
-        unit, scale, _, digits = _converter("torque", system)
-        torque = {"min": round(result.torque.min_nm * scale, digits), "max": round(result.torque.max_nm * scale, digits),
-                  "unit": unit, "turn_angle_deg": result.torque.turn_angle_deg, "source": result.torque.source}
+    guide = result.torque
+    if guide is not None:
+        key = ("torque", system, guide.min_nm, guide.max_nm, guide.turn_angle_deg, guide.source)
+        torque = shared.get(key)
+        if torque is None:
+            unit, scale, _, digits = _converter("torque", system)
+            torque = shared[key] = {"min": round(guide.min_nm * scale, digits),
+                                    "max": round(guide.max_nm * scale, digits), "unit": unit,
+                                    "turn_angle_deg": guide.turn_angle_deg, "source": guide.source}
+    key = ("assumptions", *result.assumptions)
+    assumptions = shared.get(key)
+    if assumptions is None:
+        assumptions = shared[key] = list(result.assumptions)
+    key = ("cautions", *result.cautions)
+    cautions = shared.get(key)
+    if cautions is None:
+        cautions = shared[key] = list(result.cautions)
     return {
         "verdict": result.verdict,
         "thread": result.thread,
@@ -141,8 +171,8 @@ def result_document(result: FitResult, system: str = "metric") -> dict[str, Any]
         "analysis": {check: {name: _quantity(value, kind, system) for name, (value, kind) in quantities.items()}
                      for check, quantities in result.analysis.items()},
         "torque": torque,
-        "assumptions": list(result.assumptions),
-        "cautions": list(result.cautions),
+        "assumptions": assumptions,
+        "cautions": cautions,
         "engine_version": result.engine_version,
         "catalog_version": result.catalog_version,
     }

@@ -16,7 +16,7 @@ from webargs import core
 from schemas.batch import BatchQuerySchema, BatchRequestSchema, BatchResponseSchema
 from service import auth, db, problems
 from service.api.base import Blueprint
-from service.batch import run_batch
+from service.batch import collector_paused, run_batch
 from service.buildlist import (CSV_MEDIA_TYPES, BuildListError, NotJson, TooManyItems, decode, read_csv,
                                read_json_text)
 from service.catalog_loader import load_catalog
@@ -114,9 +114,11 @@ class FitCheckBatch(MethodView):
         clearance and gap figures are guidance: the engine maker's service data, local
         regulations and licensed practice come first.
         """
-        raw_items = _read_body(current_app.config["MAX_BATCH_ITEMS"])
-        answer = run_batch(raw_items, load_catalog(), fetch_references, units=query["units"],
-                           require=query["require"])
-        # Serialised directly: BatchResponseSchema documents this shape (a test loads the
-        # answer through it), and a marshmallow dump of 10,000 results would take seconds.
-        return Response(answer.to_json(), mimetype="application/json")
+        with collector_paused():
+            raw_items = _read_body(current_app.config["MAX_BATCH_ITEMS"])
+            answer = run_batch(raw_items, load_catalog(), fetch_references, units=query["units"],
+                               require=query["require"])
+            # Serialised directly: BatchResponseSchema documents this shape (a test loads
+            # the answer through it); a marshmallow dump of 10,000 results takes seconds.
+            body = answer.to_json()
+        return Response(body, mimetype="application/json")

@@ -119,13 +119,16 @@ def command(build_list: str, server: str | None, api_key: str | None, output_for
     data, source = _read_input(build_list)
     if server:
         answer = _remote(data, source, server, api_key, units, require, timeout)
-        answer_json = None
+        _print(answer, None, source, output_format, fail_on, units, server)
     else:
-        batch = _embedded(data, source, units, require, inventory)
-        answer, answer_json = batch.as_dict(), None
-        if output_format == "json":
-            answer_json = batch.to_json()
-    _print(answer, answer_json, source, output_format, fail_on, units, server)
+        from service.batch import collector_paused
+
+        with collector_paused():  # a third of the time on long lists: see collector_paused
+            batch = _embedded(data, source, units, require, inventory)
+            answer, answer_json = batch.as_dict(), None
+            if output_format == "json":
+                answer_json = batch.to_json()
+            _print(answer, answer_json, source, output_format, fail_on, units, server)
     from service.report import exit_code
 
     sys.exit(exit_code(answer, fail_on))

@@ -215,3 +215,32 @@ def test_no_csv_build_list_makes_the_batch_fail_other_than_as_a_whole_file_probl
     assert len(answer["results"]) == len(raw)
     assert all(result["verdict"] in ("pass", "warn", "fail", "invalid") for result in answer["results"])
     assert json.loads(run_batch(raw, catalog).to_json()) == json.loads(json.dumps(answer))
+
+
+def test_the_collector_is_paused_during_a_batch_and_back_on_after_even_when_nested_or_failing():
+    import gc
+
+    from service.batch import collector_paused
+
+    assert gc.isenabled()
+    with pytest.raises(RuntimeError):
+        with collector_paused():
+            with collector_paused():
+                assert not gc.isenabled()
+            assert not gc.isenabled()  # the outer batch is still running
+            raise RuntimeError("a batch that fails")
+    assert gc.isenabled()
+
+
+def test_a_collector_that_was_off_stays_off_after_a_batch():
+    import gc
+
+    from service.batch import collector_paused
+
+    gc.disable()
+    try:
+        with collector_paused():
+            pass
+        assert not gc.isenabled()
+    finally:
+        gc.enable()

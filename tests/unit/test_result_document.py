@@ -47,3 +47,18 @@ def test_a_message_without_placeholders_is_left_alone():
 def test_every_result_carries_the_guidance_caution(check):
     cautions = " ".join(result_document(check(FLUSH_PLUG, FLUSH_HEAD))["cautions"])
     assert "guidance" in cautions and "service data" in cautions and "regulations" in cautions
+
+
+def test_documents_written_with_one_intern_table_share_their_repeated_parts_and_equal_unshared_ones(check):
+    """Reach 19 vs 21 mm in the flush port: different geometry, the same cautions,
+    assumptions, torque guide and NOT_CHECKED findings, which are then one object each."""
+    first = check(FLUSH_PLUG, FLUSH_HEAD, {"torque": 25})
+    second = check(dict(FLUSH_PLUG, reach=21.0), FLUSH_HEAD, {"torque": 25})
+    shared: dict = {}
+    one, two = result_document(first, "metric", shared), result_document(second, "metric", shared)
+    assert one == result_document(first, "metric") and two == result_document(second, "metric")
+    assert one["geometry"] != two["geometry"]
+    assert one["cautions"] is two["cautions"] and one["assumptions"] is two["assumptions"]
+    assert one["torque"] is two["torque"]
+    not_checked = [f for f in one["findings"] if f["code"] == "NOT_CHECKED"]
+    assert not_checked and all(any(f is g for g in two["findings"]) for f in not_checked)
