@@ -96,15 +96,23 @@ def derive(ctx: FitContext) -> None:
     valve = _clearance_stack(ctx, port.seat_to_valve, port.valve_clearance)
     if piston is None and valve is None:
         return
-    # Margin = obstacle - tip - dynamic allowance; the allowance is exact.
-    reserved = tip + Stack.exact(ctx.dynamic_allowance())
+    allowance = ctx.dynamic_allowance()
     if piston is not None:
-        geometry["piston_margin"] = _bounds_of_difference(piston, reserved)
+        geometry["piston_margin"] = _margin_bounds(piston, tip, allowance)
     if valve is not None:
-        geometry["valve_margin"] = _bounds_of_difference(valve, reserved)
+        geometry["valve_margin"] = _margin_bounds(valve, tip, allowance)
 
 
-def _bounds_of_difference(a: Stack, b: Stack) -> Bounds:
+def _margin_bounds(obstacle: Stack, tip: Stack, allowance: float) -> Bounds:
+    """`(obstacle - (tip + Stack.exact(allowance))).bounds()`: margin = obstacle - tip -
+    dynamic allowance, the allowance exact. Written out in one call with the same
+    operations (the exact term's zero tolerances included, so even a signed zero comes
+    out as before) because every fit with piston or valve data computes it."""
+    reserved = (tip[0] + allowance, tip[1] + 0.0, tip[2] + 0.0, tip[3] + 0.0, tip[4] + 0.0)
+    return _bounds_of_difference(obstacle, reserved)
+
+
+def _bounds_of_difference(a: tuple, b: tuple) -> Bounds:
     """`(a - b).bounds()` in one call: the same operations in the same order (see
     `Stack.__sub__` and `Stack.bounds`), so the result is bit-for-bit the same."""
     nominal, up, down, up_sq, down_sq = a[0] - b[0], a[1] + b[2], a[2] + b[1], a[3] + b[4], a[4] + b[3]
