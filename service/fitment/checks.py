@@ -9,6 +9,7 @@ README's table of finding codes.
 """
 from __future__ import annotations
 
+import itertools
 import math
 from typing import Callable
 
@@ -30,6 +31,26 @@ TORQUE = "torque"
 # Lengths closer than a nanometre are equal: it keeps a verdict from flipping on the
 # last bit of a unit conversion (0.75 in -> 19.049999999999997 mm).
 EPSILON_MM = 1e-9
+
+
+def _not_given_table(*inputs: str) -> dict[tuple[bool, ...], str]:
+    """Every "<input> and <input> not given" reason for a check's optional inputs, keyed by
+    which of them are missing (True = missing). Built once at import: most requests leave
+    the electrical and boot data out, so these checks run on every fit just to say so,
+    and looking the reason up is cheaper than joining it each time."""
+    table = {}
+    for pattern in itertools.product((False, True), repeat=len(inputs)):
+        missing = [text for text, absent in zip(inputs, pattern) if absent]
+        if missing:
+            table[pattern] = " and ".join(missing) + " not given"
+    return table
+
+
+_GAP_VOLTAGE_NOT_GIVEN = _not_given_table("a gap (the plug's or the gap option)", "the head's compression_ratio",
+                                          "the head's ignition_voltage")
+_HEAT_RANGE_NOT_GIVEN = _not_given_table("the head's heat_range_band", "the plug's heat_range")
+_BOOT_NOT_GIVEN = _not_given_table("the plug's terminal_height", "the head's boot_range",
+                                   "the plug's gasket_thickness")
 
 
 def check_thread(ctx: FitContext) -> None:
@@ -211,13 +232,19 @@ def check_torque(ctx: FitContext) -> None:
                    "higher preload at the same torque")
     planned = ctx.options.torque
     if planned is not None and not (guide.min_nm - 1e-9 <= planned <= guide.max_nm + 1e-9):
-        side = "below" if planned < guide.min_nm else "above"
-        ctx.add("TORQUE_OUT_OF_RANGE", "torque", "warn",
-                f"The planned torque of {{planned}} is {side} the recommended {{min}} to {{max}} "
-                "for this thread, seat and head material" +
-                (": the plug may loosen or leak." if side == "below" else
-                 ": it can stretch the shell or strip the head's threads."),
+        ctx.add("TORQUE_OUT_OF_RANGE", "torque", "warn", _TORQUE_MESSAGES[planned < guide.min_nm],
                 planned=(planned, TORQUE), min=(guide.min_nm, TORQUE), max=(guide.max_nm, TORQUE))
+
+
+def _torque_message(side: str) -> str:
+    return (f"The planned torque of {{planned}} is {side} the recommended {{min}} to {{max}} "
+            "for this thread, seat and head material" +
+            (": the plug may loosen or leak." if side == "below" else
+             ": it can stretch the shell or strip the head's threads."))
+
+
+# (above, below) the range, keyed by `planned < min`; built once, not per finding.
+_TORQUE_MESSAGES = {False: _torque_message("above"), True: _torque_message("below")}
 
 
 def check_thread_strength(ctx: FitContext) -> None:
@@ -289,12 +316,9 @@ def check_gap_voltage(ctx: FitContext) -> None:
     charge density at the spark (model and sources: `spark.py`)."""
     plug, port = ctx.plug, ctx.port
     gap = ctx.options.gap if ctx.options.gap is not None else plug.gap
-    missing = [text for value, text in ((gap, "a gap (the plug's or the gap option)"),
-                                        (port.compression_ratio, "the head's compression_ratio"),
-                                        (port.ignition_voltage_kv, "the head's ignition_voltage"))
-               if value is None]
-    if missing:
-        ctx.not_checked("gap_voltage", " and ".join(missing) + " not given")
+    if gap is None or port.compression_ratio is None or port.ignition_voltage_kv is None:
+        ctx.not_checked("gap_voltage", _GAP_VOLTAGE_NOT_GIVEN[
+            gap is None, port.compression_ratio is None, port.ignition_voltage_kv is None])
         return
     if gap <= 0.0:
         ctx.not_checked("gap_voltage", "a gap of zero has nothing to break down")
@@ -336,9 +360,7 @@ def check_heat_range(ctx: FitContext) -> None:
     scales are not mapped onto each other."""
     band, rating = ctx.port.heat_range_band, ctx.plug.heat_range
     if band is None or rating is None:
-        missing = [text for value, text in ((band, "the head's heat_range_band"), (rating, "the plug's heat_range"))
-                   if value is None]
-        ctx.not_checked("heat_range", " and ".join(missing) + " not given")
+        ctx.not_checked("heat_range", _HEAT_RANGE_NOT_GIVEN[band is None, rating is None])
         return
     plug_scale, band_scale = _scale_name(rating.scale), _scale_name(band.scale)
     if plug_scale.casefold() != band_scale.casefold():
@@ -369,10 +391,7 @@ def check_boot(ctx: FitContext) -> None:
     terminal_height + s from the seat face and must lie in the head's boot_range."""
     plug, boot = ctx.plug, ctx.port.boot_range
     if plug.terminal_height is None or boot is None or ctx.gasket is None:
-        missing = [text for value, text in ((plug.terminal_height, "the plug's terminal_height"),
-                                            (boot, "the head's boot_range"),
-                                            (ctx.gasket, "the plug's gasket_thickness")) if value is None]
-        ctx.not_checked("boot", " and ".join(missing) + " not given")
+        ctx.not_checked("boot", _BOOT_NOT_GIVEN[plug.terminal_height is None, boot is None, ctx.gasket is None])
         return
     top = (Stack.of(plug.terminal_height) + ctx.gasket).bounds()
     lowest, highest = ctx.low(top), ctx.high(top)
