@@ -25,9 +25,9 @@ def _default_note(name: str, default: Default) -> str:
     return f"{name} not given: {default.value:g} mm used ({default.source})"
 
 
-_NOTES = {name: _default_note(name, default) for name, default in (
-    ("min_clearance", MIN_CLEARANCE_MM), ("flush_tolerance", FLUSH_TOLERANCE_MM),
-    ("dynamic_allowance", DYNAMIC_ALLOWANCE_MM))}
+_MIN_CLEARANCE_NOTE = _default_note("min_clearance", MIN_CLEARANCE_MM)
+_FLUSH_TOLERANCE_NOTE = _default_note("flush_tolerance", FLUSH_TOLERANCE_MM)
+_DYNAMIC_ALLOWANCE_NOTE = _default_note("dynamic_allowance", DYNAMIC_ALLOWANCE_MM)
 
 
 # Which entry of a `Bounds` a verdict reads, per stack option (see `FitContext.low`).
@@ -91,23 +91,30 @@ class FitContext:
         self.assumptions.append(text)
 
     # --- options with their documented defaults ---------------------------------------
-    def _default(self, name: str, default: Default) -> float:
-        # Each default is named once in the assumptions, however many checks use it. The
-        # note strings are shared constants, so the membership test is an identity check
-        # on a short list (cheaper than keeping a set per fit).
-        note = _NOTES[name]
-        if note not in self.assumptions:
-            self.assumptions.append(note)
-        return default.value
-
+    # Each default is named once in the assumptions, however many checks use it. The
+    # notes are shared constant strings, so the membership test is an identity check on
+    # a short list (cheaper than keeping a set per fit). Written out per option, not
+    # through a shared helper, because the checks call these on every fit.
     def min_clearance(self) -> float:
         given = self.options.min_clearance
-        return given if given is not None else self._default("min_clearance", MIN_CLEARANCE_MM)
+        if given is not None:
+            return given
+        if _MIN_CLEARANCE_NOTE not in self.assumptions:
+            self.assumptions.append(_MIN_CLEARANCE_NOTE)
+        return MIN_CLEARANCE_MM.value
 
     def flush_tolerance(self) -> float:
         given = self.options.flush_tolerance
-        return given if given is not None else self._default("flush_tolerance", FLUSH_TOLERANCE_MM)
+        if given is not None:
+            return given
+        if _FLUSH_TOLERANCE_NOTE not in self.assumptions:
+            self.assumptions.append(_FLUSH_TOLERANCE_NOTE)
+        return FLUSH_TOLERANCE_MM.value
 
     def dynamic_allowance(self) -> float:
         given = self.options.dynamic_allowance
-        return given if given is not None else self._default("dynamic_allowance", DYNAMIC_ALLOWANCE_MM)
+        if given is not None:
+            return given
+        if _DYNAMIC_ALLOWANCE_NOTE not in self.assumptions:
+            self.assumptions.append(_DYNAMIC_ALLOWANCE_NOTE)
+        return DYNAMIC_ALLOWANCE_MM.value

@@ -92,8 +92,11 @@ def derive(ctx: FitContext) -> None:
         return
     tip = ctx.tip = thread_end + plug.firing_end
     geometry["tip_position"] = tip.bounds()
-    piston = _clearance_stack(ctx, port.seat_to_piston, port.piston_clearance)
-    valve = _clearance_stack(ctx, port.seat_to_valve, port.valve_clearance)
+    # Many heads give no valve (or piston) data; skip the call for them.
+    piston = (_clearance_stack(ctx, port.seat_to_piston, port.piston_clearance)
+              if port.seat_to_piston is not None or port.piston_clearance is not None else None)
+    valve = (_clearance_stack(ctx, port.seat_to_valve, port.valve_clearance)
+             if port.seat_to_valve is not None or port.valve_clearance is not None else None)
     if piston is None and valve is None:
         return
     allowance = ctx.dynamic_allowance()
@@ -105,14 +108,18 @@ def derive(ctx: FitContext) -> None:
 
 def _margin_bounds(obstacle: Stack, tip: Stack, allowance: float) -> Bounds:
     """`(obstacle - (tip + Stack.exact(allowance))).bounds()`: margin = obstacle - tip -
-    dynamic allowance, the allowance exact. Written out in one call with the same
-    operations (the exact term's zero tolerances included, so even a signed zero comes
+    dynamic allowance, the allowance exact. Written out with the same operations in the
+    same order (the exact term's zero tolerances included, so even a signed zero comes
     out as before) because every fit with piston or valve data computes it."""
-    reserved = (tip[0] + allowance, tip[1] + 0.0, tip[2] + 0.0, tip[3] + 0.0, tip[4] + 0.0)
-    return _bounds_of_difference(obstacle, reserved)
+    nominal = obstacle[0] - (tip[0] + allowance)
+    up, down = obstacle[1] + (tip[2] + 0.0), obstacle[2] + (tip[1] + 0.0)
+    up_sq, down_sq = obstacle[3] + (tip[4] + 0.0), obstacle[4] + (tip[3] + 0.0)
+    return _new(Bounds, (nominal, nominal - down, nominal + up,
+                         nominal - sqrt(down_sq) if down_sq else nominal,
+                         nominal + sqrt(up_sq) if up_sq else nominal))
 
 
-def _bounds_of_difference(a: tuple, b: tuple) -> Bounds:
+def _bounds_of_difference(a: Stack, b: Stack) -> Bounds:
     """`(a - b).bounds()` in one call: the same operations in the same order (see
     `Stack.__sub__` and `Stack.bounds`), so the result is bit-for-bit the same."""
     nominal, up, down, up_sq, down_sq = a[0] - b[0], a[1] + b[2], a[2] + b[1], a[3] + b[4], a[4] + b[3]
