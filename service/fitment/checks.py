@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import itertools
 import math
+from functools import lru_cache
 from typing import Callable
 
 from .context import FitContext
@@ -24,6 +25,7 @@ from .strength import (
     port_thread_limits,
     thread_strength,
 )
+from .threads import ThreadLimits
 
 LENGTH = "length"
 TORQUE = "torque"
@@ -71,13 +73,16 @@ def check_seat(ctx: FitContext) -> None:
     plug, port = ctx.plug.seat, ctx.port.seat
     if plug == port:
         return
-    if plug == "conical":
-        why = ("a conical-seat plug in a flat-seat port has no gasket face to seal on: "
-               "the seal leaks and the plug can loosen")
-    else:
-        why = ("a flat-seat plug in a conical-seat port seals on the edge of its gasket "
-               "against the taper: the seal leaks and the reach is wrong")
-    ctx.add("SEAT_MISMATCH", "seat", "fail", f"Seat mismatch: {why}.")
+    ctx.add("SEAT_MISMATCH", "seat", "fail", _SEAT_MISMATCH_MESSAGES[plug == "conical"])
+
+
+# Keyed by "the plug is the conical one"; built once rather than per finding.
+_SEAT_MISMATCH_MESSAGES = {
+    True: "Seat mismatch: a conical-seat plug in a flat-seat port has no gasket face to seal on: "
+          "the seal leaks and the plug can loosen.",
+    False: "Seat mismatch: a flat-seat plug in a conical-seat port seals on the edge of its gasket "
+           "against the taper: the seal leaks and the reach is wrong.",
+}
 
 
 def check_reach(ctx: FitContext) -> None:
@@ -251,8 +256,8 @@ def check_thread_strength(ctx: FitContext) -> None:
     """Will the head's thread hold? Preload plus gas load against the port thread's shear
     strength over the worst-case engaged length (model and sources: `strength.py`)."""
     plug, port, options = ctx.plug, ctx.port, ctx.options
-    size = parse_designation(port.thread)
-    if plug.thread != port.thread or plug.seat != port.seat or size is None or size[1] is None:
+    thread = _port_thread(port.thread) if plug.thread == port.thread and plug.seat == port.seat else None
+    if thread is None:
         ctx.not_checked("thread_strength", "it needs a plug of the port's own thread and seat")
         return
     if ctx.thread_end is None or ctx.port_depth is None:
@@ -275,15 +280,14 @@ def check_thread_strength(ctx: FitContext) -> None:
                    "(Shigley table 8-15), is used")
     if port.peak_pressure_bar is None:
         ctx.assume("thread strength: peak_pressure not given: the gas load is left out")
-    diameter, pitch = size
-    limits = port_thread_limits(diameter, pitch)
+    diameter, pitch, limits, allowances = thread
     # Worst-case ends of the stand-off and the port depth, as `Stack.bounds` computes them.
     gasket, depth = ctx.gasket, ctx.port_depth
     engaged = engaged_length_mm(reach_min_mm=plug.reach.nominal - plug.reach.minus,
                                 standoff_min_mm=gasket.nominal - gasket.down,
                                 standoff_max_mm=gasket.nominal + gasket.up,
                                 port_depth_min_mm=depth.nominal - depth.down,
-                                allowances=EngagementAllowances.common_practice(pitch))
+                                allowances=allowances)
     result = thread_strength(
         torque_nm=torque, lubrication=options.lubrication, seat=port.seat, nominal_diameter_mm=diameter,
         pitch_mm=pitch, external_major_min_mm=limits.external_major_min_mm,
@@ -309,6 +313,18 @@ def check_thread_strength(ctx: FitContext) -> None:
                 "load): a safety factor of {safety_factor}, below {min_safety_factor}. It may strip: "
                 "prefer a plug whose reach fills the port, a torque at the low end of the guidance, or a "
                 "thread insert. This is guidance: the engine maker's data comes first.", **values)
+
+
+@lru_cache(maxsize=256)
+def _port_thread(designation: str) -> tuple[float, float, ThreadLimits, EngagementAllowances] | None:
+    """Diameter, pitch, 6g/6H limits and engagement allowances of a port thread, or None
+    for an unreadable or bare designation. One cached look-up per fit instead of three:
+    build lists and fitting-plugs searches repeat a handful of thread sizes."""
+    size = parse_designation(designation)
+    if size is None or size[1] is None:
+        return None
+    diameter, pitch = size
+    return diameter, pitch, port_thread_limits(diameter, pitch), EngagementAllowances.common_practice(pitch)
 
 
 def check_gap_voltage(ctx: FitContext) -> None:

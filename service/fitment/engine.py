@@ -37,15 +37,7 @@ def check_fit(plug: PlugSpec, port: PortSpec, options: Options | None, catalog: 
     for check in CHECKS:
         check(ctx)
     # The context tracked the worst severity as findings were added (see `FitContext.add`).
-    return FitResult(
-        verdict=_VERDICTS[ctx.worst],
-        thread=plug.thread,
-        findings=ctx.findings,
-        geometry=ctx.geometry,
-        analysis=ctx.analysis,
-        torque=ctx.torque,
-        assumptions=ctx.assumptions,
-        cautions=CAUTIONS,
-        engine_version=ENGINE_VERSION,
-        catalog_version=catalog.version,
-    )
+    # Positional, in FitResult's field order: by keyword the call costs about 0.3 µs more,
+    # a few per cent of a whole check.
+    return FitResult(_VERDICTS[ctx.worst], plug.thread, ctx.findings, ctx.geometry, ctx.analysis, ctx.torque,
+                     ctx.assumptions, CAUTIONS, ENGINE_VERSION, catalog.version)
