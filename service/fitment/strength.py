@@ -212,15 +212,20 @@ def engaged_length_mm(
     """
 
     # overlap(s) = min(reach - s, D) - max(relief - s, chamfer) - incomplete, at both ends of
-    # the stand-off's tolerance; written out rather than as an inner function because
-    # every fit check runs it and a closure costs more than the arithmetic.
-    relief, chamfer, incomplete = (allowances.thread_relief_mm, allowances.lead_chamfer_mm,
-                                   allowances.incomplete_thread_mm)
-    at_min = (min(reach_min_mm - standoff_min_mm, port_depth_min_mm)
-              - max(relief - standoff_min_mm, chamfer) - incomplete)
-    at_max = (min(reach_min_mm - standoff_max_mm, port_depth_min_mm)
-              - max(relief - standoff_max_mm, chamfer) - incomplete)
-    return max(0.0, min(at_min, at_max))
+    # the stand-off's tolerance. Written out with conditional expressions, not an inner
+    # function and min()/max(): every fit check runs this, and here each builtin call costs
+    # more than its arithmetic. `b if b < a else a` is exactly min(a, b) (the first on a
+    # tie), `b if b > a else a` exactly max(a, b).
+    relief, chamfer = allowances.thread_relief_mm, allowances.lead_chamfer_mm
+    incomplete = allowances.incomplete_thread_mm
+    end, start = reach_min_mm - standoff_min_mm, relief - standoff_min_mm
+    at_min = ((port_depth_min_mm if port_depth_min_mm < end else end)
+              - (chamfer if chamfer > start else start) - incomplete)
+    end, start = reach_min_mm - standoff_max_mm, relief - standoff_max_mm
+    at_max = ((port_depth_min_mm if port_depth_min_mm < end else end)
+              - (chamfer if chamfer > start else start) - incomplete)
+    least = at_max if at_max < at_min else at_min
+    return least if least > 0.0 else 0.0
 
 
 def thread_strength(
