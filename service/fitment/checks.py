@@ -12,7 +12,7 @@ from __future__ import annotations
 import itertools
 import math
 from functools import lru_cache
-from typing import Callable
+from typing import Callable, NamedTuple
 
 from .context import FitContext
 from .designation import parse_designation
@@ -122,54 +122,65 @@ def _missing_for_thread_end(ctx: FitContext, need_port: bool) -> str:
     return " and ".join(missing) + " not given" if missing else "inputs incomplete"
 
 
-def _clearance_check(ctx: FitContext, check: str, code: str, entry_name: str, obstacle: str,
-                     from_seat: object, from_breakout: object, seat_field: str, breakout_field: str) -> None:
-    margin = ctx.geometry.get(entry_name)
+class _Obstacle(NamedTuple):
+    """What the piston and valve checks differ in, with every message text built once at
+    import (these checks run on every fit, most often just to say data is missing)."""
+
+    check: str
+    code: str
+    entry_name: str  # its margin's name in the geometry
+    too_close: str  # message templates: within the minimum clearance ...
+    interfering: str  # ... and past the obstacle
+    neither_given: str  # not-checked reasons
+    needs_port_depth: str
+
+
+def _obstacle(check: str, code: str, obstacle: str, seat_field: str, breakout_field: str) -> _Obstacle:
+    return _Obstacle(
+        check, code, f"{check}_margin",
+        f"At its closest the {obstacle} comes within {{margin}} of the electrode (worst case), "
+        "less than the minimum clearance of {min_clearance} by {shortfall}: it can strike the plug.",
+        f"The electrode would meet the {obstacle}: at its closest it reaches {{overlap}} past the "
+        f"{obstacle} (worst case). It needs {{shortfall}} more room to keep the minimum clearance "
+        "of {min_clearance}.",
+        f"the head gives neither {breakout_field} nor {seat_field}",
+        f"{breakout_field} needs the port's port_depth or design_reach")
+
+
+_PISTON = _obstacle("piston", "PISTON_CONTACT", "piston crown at top dead centre", "seat_to_piston",
+                    "piston_clearance")
+_VALVE = _obstacle("valve", "VALVE_CONTACT", "valve", "seat_to_valve", "valve_clearance")
+
+
+def _clearance_check(ctx: FitContext, obstacle: _Obstacle, from_seat: object, from_breakout: object) -> None:
+    margin = ctx.geometry.get(obstacle.entry_name)
     if margin is None:
         if from_seat is None and from_breakout is None:
-            ctx.not_checked(check, f"the head gives neither {breakout_field} nor {seat_field}")
+            ctx.not_checked(obstacle.check, obstacle.neither_given)
         elif ctx.tip is None:
             missing = "the plug's firing_end not given" if ctx.plug.firing_end is None and ctx.thread_end is not None \
                 else _missing_for_thread_end(ctx, need_port=False)
-            ctx.not_checked(check, missing)
+            ctx.not_checked(obstacle.check, missing)
         else:
-            ctx.not_checked(check, f"{breakout_field} needs the port's port_depth or design_reach")
+            ctx.not_checked(obstacle.check, obstacle.needs_port_depth)
         return
     minimum = ctx.min_clearance()
     worst = ctx.low(margin)
     if worst >= minimum - EPSILON_MM:
         return
-    template = _CONTACT_MESSAGES[obstacle][worst < 0]
-    ctx.add(code, check, "fail", template,
+    ctx.add(obstacle.code, obstacle.check, "fail", obstacle.interfering if worst < 0 else obstacle.too_close,
             margin=(worst, LENGTH), overlap=(max(0.0, -worst), LENGTH),
             min_clearance=(minimum, LENGTH), shortfall=(minimum - worst, LENGTH))
 
 
-def _contact_messages(obstacle: str) -> tuple[str, str]:
-    """(too close, interfering) message templates for one obstacle."""
-    return (
-        f"At its closest the {obstacle} comes within {{margin}} of the electrode (worst case), "
-        "less than the minimum clearance of {min_clearance} by {shortfall}: it can strike the plug.",
-        f"The electrode would meet the {obstacle}: at its closest it reaches {{overlap}} past the "
-        f"{obstacle} (worst case). It needs {{shortfall}} more room to keep the minimum clearance "
-        "of {min_clearance}.")
-
-
-_PISTON = "piston crown at top dead centre"
-_VALVE = "valve"
-_CONTACT_MESSAGES = {obstacle: _contact_messages(obstacle) for obstacle in (_PISTON, _VALVE)}
-
-
 def check_piston(ctx: FitContext) -> None:
     port = ctx.port
-    _clearance_check(ctx, "piston", "PISTON_CONTACT", "piston_margin", _PISTON,
-                     port.seat_to_piston, port.piston_clearance, "seat_to_piston", "piston_clearance")
+    _clearance_check(ctx, _PISTON, port.seat_to_piston, port.piston_clearance)
 
 
 def check_valve(ctx: FitContext) -> None:
     port = ctx.port
-    _clearance_check(ctx, "valve", "VALVE_CONTACT", "valve_margin", _VALVE,
-                     port.seat_to_valve, port.valve_clearance, "seat_to_valve", "valve_clearance")
+    _clearance_check(ctx, _VALVE, port.seat_to_valve, port.valve_clearance)
 
 
 def check_tool_clearance(ctx: FitContext) -> None:
@@ -294,19 +305,19 @@ def check_thread_strength(ctx: FitContext) -> None:
         internal_pitch_max_mm=limits.internal_pitch_max_mm, engaged_length_mm=engaged,
         shear_strength_mpa=HEAD_MATERIAL_SHEAR_STRENGTH[material].shear_strength_mpa,
         peak_pressure_bar=port.peak_pressure_bar)
-    values = {"torque": (result.torque_nm, TORQUE), "nut_factor": (result.nut_factor, "ratio"),
-              "preload": (result.preload_n, "force"), "gas_load": (result.gas_load_n, "force"),
-              "load": (result.preload_n + result.gas_load_n, "force"),
-              "engaged_length": (result.engaged_length_mm, LENGTH), "shear_area": (result.shear_area_mm2, "area"),
-              "shear_strength": (result.shear_strength_mpa, "stress"),
-              "strip_strength": (result.strip_strength_n, "force"),
-              "safety_factor": (result.safety_factor, "ratio"),
-              "min_safety_factor": (result.min_safety_factor, "ratio")}
-    if not math.isfinite(result.safety_factor):  # a planned torque of (nearly) zero and no gas load
+    (torque_nm, nut_factor, preload, gas_load, engaged_length, shear_area, shear_strength, strip_strength,
+     safety_factor, min_safety_factor) = result  # one unpacking instead of eleven field reads
+    if not math.isfinite(safety_factor):  # a planned torque of (nearly) zero and no gas load
         ctx.not_checked("thread_strength", "the planned torque puts practically no load on the thread")
         return
+    values = {"torque": (torque_nm, TORQUE), "nut_factor": (nut_factor, "ratio"),
+              "preload": (preload, "force"), "gas_load": (gas_load, "force"),
+              "load": (preload + gas_load, "force"),
+              "engaged_length": (engaged_length, LENGTH), "shear_area": (shear_area, "area"),
+              "shear_strength": (shear_strength, "stress"), "strip_strength": (strip_strength, "force"),
+              "safety_factor": (safety_factor, "ratio"), "min_safety_factor": (min_safety_factor, "ratio")}
     ctx.analysis["thread_strength"] = values
-    if result.at_risk:
+    if safety_factor < min_safety_factor:  # ThreadStrength.at_risk
         ctx.add("THREAD_STRIP_RISK", "thread_strength", "warn",
                 "The head's thread is estimated to hold {strip_strength} over {engaged_length} of engaged "
                 "thread (worst case) against {load} ({preload} preload at {torque} plus {gas_load} gas "
