@@ -86,8 +86,10 @@ def derive(ctx: FitContext) -> None:
         return
     thread_end = ctx.thread_end = reach - gasket
     if depth is not None:
-        geometry["thread_protrusion"] = _bounds_of_difference(thread_end, depth)
-        geometry["thread_recess"] = _bounds_of_difference(thread_end, depth_long)
+        protrusion = geometry["thread_protrusion"] = _bounds_of_difference(thread_end, depth)
+        # Without a long side the recess is the same difference: share the (immutable) entry.
+        geometry["thread_recess"] = (protrusion if depth_long is depth
+                                     else _bounds_of_difference(thread_end, depth_long))
     if plug.firing_end is None:
         return
     tip = ctx.tip = thread_end + plug.firing_end
