@@ -117,7 +117,7 @@ class FitCheckBatch(MethodView):
         with collector_paused():
             raw_items = _read_body(current_app.config["MAX_BATCH_ITEMS"])
             answer = run_batch(raw_items, load_catalog(), fetch_references, units=query["units"],
-                               require=query["require"])
+                               require=query["require"], split=True, json_only=True)
             # Serialised directly: BatchResponseSchema documents this shape (a test loads
             # the answer through it); a marshmallow dump of 10,000 results takes seconds.
             body = answer.to_json()

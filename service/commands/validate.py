@@ -68,7 +68,7 @@ def _embedded(data: bytes, source: str, units: str, require: list[str], inventor
              EXIT_UNUSABLE)
     except UnusableInput as error:
         fail(str(error), EXIT_UNUSABLE)
-    return run_batch(raw_items, load_catalog(), fetch, units=units, require=require)
+    return run_batch(raw_items, load_catalog(), fetch, units=units, require=require, split=True)
 
 
 def _remote(data: bytes, source: str, server: str, api_key: str | None, units: str, require: list[str],
