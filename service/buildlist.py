@@ -237,12 +237,17 @@ def _parse_waivers(text: str) -> list[dict[str, Any]]:
     return waivers
 
 
-def _length_reader(header_unit: str | None) -> Callable[[str], Any]:
+def _length_reader(header_unit: str | None, factor: float = 1.0) -> Callable[[str], Any]:
+    """Cells of a length column. Under a unit in the header a plain number is scaled once
+    to mm (a bare number, the cheapest form for the schema to load: `Length` reads it
+    exactly as it reads `{"value": number, "unit": header_unit}`); a tolerance keeps the
+    object form, in the header's unit."""
+
     def read(text: str) -> Any:
         if header_unit is None:
             return _toleranced(text, None) or text
         try:
-            return {"value": float(text), "unit": header_unit}
+            return float(text) * factor
         except ValueError:
             pass
         toleranced = _toleranced(text, header_unit)
@@ -315,7 +320,7 @@ def _understand_header(name: str, specs: dict[str, FieldSpec]) -> Column:
     except UnitError:
         raise ValueError(f"{suffix!r} is not a unit of {spec.kind}") from None
     if spec.reader == "length":
-        return Column(name, spec.path, _length_reader(unit))
+        return Column(name, spec.path, _length_reader(unit, factor))
     if spec.reader == "temperature":
         return Column(name, spec.path, _temperature_reader(unit))
     return Column(name, spec.path, _quantity_reader(unit, factor))

@@ -244,3 +244,38 @@ def test_a_collector_that_was_off_stays_off_after_a_batch():
         assert not gc.isenabled()
     finally:
         gc.enable()
+
+
+@pytest.mark.parametrize("cell", ["0.75", "3", "nan", "-1", "1e400"])
+def test_a_number_under_a_header_unit_loads_and_is_refused_exactly_like_the_object_form(catalog, cell):
+    """0.75 in = 19.05 mm (NIST SP 811, 2008, B.8) loads; 3 in = 76.2 mm is past the
+    60 mm reach limit, NaN and infinity are no lengths, -1 in is below zero."""
+    header = "plug_thread,plug_seat,plug_reach_in,plug_gasket_thickness_mm,head_thread,head_seat,head_port_depth_mm\n"
+    from_csv = run_batch(read_csv(header + f"M14x1.25,flat,{cell},1.5,M14x1.25,flat,17.5\n"), catalog).as_dict()
+    plug = {"thread": "M14x1.25", "seat": "flat", "reach": {"value": float(cell), "unit": "in"},
+            "gasket_thickness": {"value": 1.5, "unit": "mm"}}
+    head = {"thread": "M14x1.25", "seat": "flat", "port_depth": {"value": 17.5, "unit": "mm"}}
+    from_json = batch([{"plug": plug, "head": head}], catalog)
+    result, expected = from_csv["results"][0], from_json["results"][0]
+    assert result["verdict"] == expected["verdict"]
+    if expected["verdict"] == "invalid":
+        assert result["errors"] == {"plug_reach_in": expected["errors"]["plug"]["reach"]}
+    else:
+        assert {k: v for k, v in result.items() if k not in ("ref", "line")} == \
+            {k: v for k, v in expected.items() if k != "ref"}
+
+
+@pytest.mark.parametrize("value", [19.0, 70.0, -2.0, float("inf")])
+def test_a_length_object_without_tolerance_loads_like_one_with_zero_tolerance_and_like_the_bare_number(value):
+    """The reach limit is 60 mm (schemas.specs.MAX_REACH_MM, common practice) and a reach
+    is not negative: 70 and -2 are refused, whichever form they come in."""
+    def load(reach):
+        try:
+            return PlugInputSchema().load({"thread": "M14x1.25", "seat": "flat", "reach": reach})["reach"]
+        except ValidationError as error:
+            return error.messages
+
+    bare = load(value)
+    assert load({"value": value, "unit": "mm"}) == bare
+    assert load({"value": value, "unit": "mm", "tol": 0.0}) == bare
+    assert load({"value": value / 25.4, "unit": "in"}) == load({"value": value / 25.4, "unit": "in", "plus": 0, "minus": 0})
