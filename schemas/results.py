@@ -14,7 +14,7 @@ from marshmallow import Schema, fields, validate
 
 from service.fitment.checks import CHECK_NAMES
 from service.fitment.codes import FINDING_CODES
-from service.fitment.model import Bounds, FitResult
+from service.fitment.model import FitResult
 from service.units import from_canonical, output_unit
 
 VERDICTS = ("pass", "warn", "fail")
@@ -95,17 +95,20 @@ def _converter(kind: str, system: str) -> tuple[str, float, float, int]:
     return unit, scale, offset, _DIGITS.get(unit, 4)
 
 
-def _geometry_entry(bounds: Bounds, system: str) -> dict[str, Any]:
-    unit, scale, _, digits = _converter("length", system)
-    nominal, low, high, rss_low, rss_high = bounds
-    return {"nominal": round(nominal * scale, digits), "min": round(low * scale, digits),
-            "max": round(high * scale, digits), "rss_min": round(rss_low * scale, digits),
-            "rss_max": round(rss_high * scale, digits), "unit": unit}
+class _Converters(dict):
+    """`_converter` for one unit system as a plain dict lookup (kind -> conversion):
+    a result has some fifty quantities, a batch tens of thousands of results."""
+
+    def __init__(self, system: str) -> None:
+        super().__init__()
+        self.system = system
+
+    def __missing__(self, kind: str) -> tuple[str, float, float, int]:
+        conversion = self[kind] = _converter(kind, self.system)
+        return conversion
 
 
-def _quantity(value: float, kind: str, system: str) -> dict[str, Any]:
-    unit, scale, offset, digits = _converter(kind, system)
-    return {"value": round(value * scale + offset, digits), "unit": unit}
+_CONVERTERS = {system: _Converters(system) for system in UNIT_SYSTEMS}
 
 
 def render_message(template: str, values: dict[str, dict[str, Any]]) -> str:
@@ -131,6 +134,7 @@ def result_document(result: FitResult, system: str = "metric", shared: dict | No
     """
     if shared is None:
         shared = {}
+    converters = _CONVERTERS[system]
     findings = []
     for finding in result.findings:
         finding_values = finding.values
@@ -142,7 +146,10 @@ def result_document(result: FitResult, system: str = "metric", shared: dict | No
                                           "severity": finding.severity, "message": finding.message, "values": {}}
             findings.append(document)
             continue
-        values = {name: _quantity(value, kind, system) for name, (value, kind) in finding_values.items()}
+        values = {}
+        for name, (value, kind) in finding_values.items():
+            unit, scale, offset, digits = converters[kind]
+            values[name] = {"value": round(value * scale + offset, digits), "unit": unit}
         findings.append({"code": finding.code, "check": finding.check, "severity": finding.severity,
                          "message": render_message(finding.message, values), "values": values})
     torque = None
@@ -163,13 +170,24 @@ def result_document(result: FitResult, system: str = "metric", shared: dict | No
     cautions = shared.get(key)
     if cautions is None:
         cautions = shared[key] = list(result.cautions)
+    unit, scale, _, digits = converters["length"]
+    geometry = {}
+    for name, (nominal, low, high, rss_low, rss_high) in result.geometry.items():
+        geometry[name] = {"nominal": round(nominal * scale, digits), "min": round(low * scale, digits),
+                          "max": round(high * scale, digits), "rss_min": round(rss_low * scale, digits),
+                          "rss_max": round(rss_high * scale, digits), "unit": unit}
+    analysis = {}
+    for check, quantities in result.analysis.items():
+        converted = analysis[check] = {}
+        for name, (value, kind) in quantities.items():
+            unit, scale, offset, digits = converters[kind]
+            converted[name] = {"value": round(value * scale + offset, digits), "unit": unit}
     return {
         "verdict": result.verdict,
         "thread": result.thread,
         "findings": findings,
-        "geometry": {name: _geometry_entry(bounds, system) for name, bounds in result.geometry.items()},
-        "analysis": {check: {name: _quantity(value, kind, system) for name, (value, kind) in quantities.items()}
-                     for check, quantities in result.analysis.items()},
+        "geometry": geometry,
+        "analysis": analysis,
         "torque": torque,
         "assumptions": assumptions,
         "cautions": cautions,
