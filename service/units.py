@@ -115,6 +115,12 @@ def parse_quantity(text: str, kind_name: str) -> float:
     Cached: the same text is parsed by pint only once per process.
     """
     kind = KINDS[kind_name]
+    try:  # a plain number (most cells of a long list): the spellings below cannot apply
+        number = float(text)
+    except ValueError:
+        pass
+    else:
+        return convert(check_finite(number, kind.name), kind.bare, kind.canonical)
     normalised = _normalise(text, kind)
     if not normalised:
         raise UnitError(f"empty {kind.name}")

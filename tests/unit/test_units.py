@@ -76,3 +76,18 @@ def test_a_repeated_string_is_parsed_by_pint_only_once():
 def test_conversion_factors_follow_nist():
     assert convert(1.0, "lbf*ft", "N*m") == pytest.approx(1.355818, abs=5e-7)
     assert convert(25.4, "mm", "in") == pytest.approx(1.0, rel=1e-15)
+
+
+@pytest.mark.parametrize(("text", "kind", "expected"), [
+    (" 15.30 ", "torque", 15.3),  # a bare number is in the kind's bare unit: N*m
+    ("19", "length", 19.0),  # mm
+    ("20", "temperature", 293.15),  # degC, held in K (0 degC = 273.15 K, NIST SP 811, 2008, 4.2.1.1)
+])
+def test_a_plain_number_string_is_read_in_the_bare_unit(text, kind, expected):
+    assert parse_quantity(text, kind) == pytest.approx(expected, rel=1e-12)
+
+
+@pytest.mark.parametrize("text", ["nan", "inf", "-Infinity"])
+def test_a_plain_number_string_that_is_not_finite_is_refused(text):
+    with pytest.raises(UnitError, match="finite"):
+        parse_quantity(text, "torque")
