@@ -35,6 +35,12 @@ def exit_code(answer: dict[str, Any], fail_on: str) -> int:
     return 1 if any(result["verdict"] in failing for result in answer["results"]) else 0
 
 
+def summary_exit_code(summary: dict[str, Any], fail_on: str) -> int:
+    """`exit_code` from the answer's summary, whose counts are those of its results'
+    verdicts: for callers that have the counts but did not build the results."""
+    return 1 if any(summary[verdict] for verdict in failing_verdicts(fail_on)) else 0
+
+
 def error_lines(errors: Any, path: tuple[str, ...] = ()) -> list[str]:
     """`{"plug": {"reach": ["..."]}}` as `plug.reach: ...` lines (CSV errors are flat)."""
     if isinstance(errors, dict):

@@ -52,7 +52,8 @@ def _is_csv(source: str, text: str) -> bool:
     return not looks_like_json(text)
 
 
-def _embedded(data: bytes, source: str, units: str, require: list[str], inventory: tuple[str, ...]) -> dict[str, Any]:
+def _embedded(data: bytes, source: str, units: str, require: list[str], inventory: tuple[str, ...],
+              json_only: bool = False) -> Any:
     from service.batch import run_batch
     from service.buildlist import BuildListError, decode, read_build_list
     from service.catalog_loader import load_catalog
@@ -68,7 +69,8 @@ def _embedded(data: bytes, source: str, units: str, require: list[str], inventor
              EXIT_UNUSABLE)
     except UnusableInput as error:
         fail(str(error), EXIT_UNUSABLE)
-    return run_batch(raw_items, load_catalog(), fetch, units=units, require=require, split=True)
+    return run_batch(raw_items, load_catalog(), fetch, units=units, require=require, split=True,
+                     json_only=json_only)
 
 
 def _remote(data: bytes, source: str, server: str, api_key: str | None, units: str, require: list[str],
@@ -117,21 +119,26 @@ def command(build_list: str, server: str | None, api_key: str | None, output_for
     if server and inventory:
         raise click.UsageError("--inventory is for embedded runs; with --server the service's own inventory is used")
     data, source = _read_input(build_list)
+    from service.report import exit_code, summary_exit_code
+
     if server:
         answer = _remote(data, source, server, api_key, units, require, timeout)
         _print(answer, None, source, output_format, fail_on, units, server)
-    else:
-        from service.batch import collector_paused
+        sys.exit(exit_code(answer, fail_on))
+    from service.batch import collector_paused
 
-        with collector_paused():  # a third of the time on long lists: see collector_paused
-            batch = _embedded(data, source, units, require, inventory)
-            answer, answer_json = batch.as_dict(), None
-            if output_format == "json":
-                answer_json = batch.to_json()
-            _print(answer, answer_json, source, output_format, fail_on, units, server)
-    from service.report import exit_code
-
-    sys.exit(exit_code(answer, fail_on))
+    with collector_paused():  # a third of the time on long lists: see collector_paused
+        if output_format == "json":
+            # Only the JSON is printed, and the summary's counts decide the exit code:
+            # a helper process that checks half a long list then sends JSON alone.
+            batch = _embedded(data, source, units, require, inventory, json_only=True)
+            _print({}, batch.to_json(), source, output_format, fail_on, units, server)
+            code = summary_exit_code(batch.summary, fail_on)
+        else:
+            answer = _embedded(data, source, units, require, inventory).as_dict()
+            _print(answer, None, source, output_format, fail_on, units, server)
+            code = exit_code(answer, fail_on)
+    sys.exit(code)
 
 
 def _print(answer: dict[str, Any], answer_json: str | None, source: str, output_format: str, fail_on: str,

@@ -98,3 +98,13 @@ def test_one_result_reads_with_its_verdict_findings_and_geometry(answer):
     assert text.startswith("M14x1.25: FAIL")
     assert "fail  PISTON_CONTACT:" in text
     assert "piston margin" in text and "-3.5" in text
+
+
+@pytest.mark.parametrize("lines", [[0], [0, 1], [0, 4], [3], [2], [0, 1, 2, 3, 4]])
+@pytest.mark.parametrize("fail_on", ["fail", "warn"])
+def test_the_exit_code_from_the_summary_equals_the_one_from_the_results(catalog, lines, fail_on):
+    from service.report import summary_exit_code
+
+    rows = BUILD_LIST.splitlines(keepends=True)
+    answer = run_batch(read_csv(rows[0] + "".join(rows[1 + line] for line in lines)), catalog).as_dict()
+    assert summary_exit_code(answer["summary"], fail_on) == exit_code(answer, fail_on)
