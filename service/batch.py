@@ -359,9 +359,15 @@ class BatchAnswer:
     def to_json(self) -> str:
         """Compact JSON, equal to `json.dumps(self.as_dict())` read back."""
         encode = json.JSONEncoder(separators=(",", ":")).encode
-        texts = [segment.json_text if segment.json_text is not None else _entries_json(segment.entries or [])
-                 for segment in self._segments]
-        return '{"summary":' + encode(self.summary) + ',"results":[' + ",".join(t for t in texts if t) + "]}"
+        parts = ['{"summary":', encode(self.summary), ',"results":[']
+        for segment in self._segments:
+            text = segment.json_text if segment.json_text is not None else _entries_json(segment.entries or [])
+            if text:
+                if len(parts) > 3:
+                    parts.append(",")
+                parts.append(text)
+        parts.append("]}")
+        return "".join(parts)  # one copy of the tens of megabytes, not one per concatenation
 
 
 def _entries_json(entries: list[Entry]) -> str:
