@@ -121,4 +121,7 @@ class FitCheckBatch(MethodView):
             # Serialised directly: BatchResponseSchema documents this shape (a test loads
             # the answer through it); a marshmallow dump of 10,000 results takes seconds.
             body = answer.to_json()
+            # Freed while the collector is still paused: left to the function's end,
+            # the collector's first pass after the pause would walk all of it first.
+            del raw_items, answer
         return Response(body, mimetype="application/json")

@@ -134,10 +134,12 @@ def command(build_list: str, server: str | None, api_key: str | None, output_for
             batch = _embedded(data, source, units, require, inventory, json_only=True)
             _print({}, batch.to_json(), source, output_format, fail_on, units, server)
             code = summary_exit_code(batch.summary, fail_on)
+            del batch  # freed while the collector is paused (see service.api.batch)
         else:
             answer = _embedded(data, source, units, require, inventory).as_dict()
             _print(answer, None, source, output_format, fail_on, units, server)
             code = exit_code(answer, fail_on)
+            del answer
     sys.exit(code)
 
 
