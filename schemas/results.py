@@ -173,7 +173,14 @@ def result_document(result: FitResult, system: str = "metric", shared: dict | No
     unit, scale, _, digits = converters["length"]
     geometry = {}
     for name, (nominal, low, high, rss_low, rss_high) in result.geometry.items():
-        geometry[name] = {"nominal": round(nominal * scale, digits), "min": round(low * scale, digits),
+        shown = round(nominal * scale, digits)
+        if low == nominal == high == rss_low == rss_high and nominal:
+            # No tolerances (most lines): five equal numbers, rounded once. Zero is left
+            # to the general case, where -0.0 and 0.0 keep their own signs.
+            geometry[name] = {"nominal": shown, "min": shown, "max": shown, "rss_min": shown, "rss_max": shown,
+                              "unit": unit}
+            continue
+        geometry[name] = {"nominal": shown, "min": round(low * scale, digits),
                           "max": round(high * scale, digits), "rss_min": round(rss_low * scale, digits),
                           "rss_max": round(rss_high * scale, digits), "unit": unit}
     analysis = {}

@@ -62,3 +62,15 @@ def test_documents_written_with_one_intern_table_share_their_repeated_parts_and_
     assert one["torque"] is two["torque"]
     not_checked = [f for f in one["findings"] if f["code"] == "NOT_CHECKED"]
     assert not_checked and all(any(f is g for g in two["findings"]) for f in not_checked)
+
+
+def test_a_toleranced_protrusion_spreads_and_an_exact_margin_gives_five_equal_numbers(check):
+    """The contract's flush fit: protrusion (19.0 − 1.5) − 17.5 = 0.0 mm, piston margin
+    (17.5 + 8.0) − (17.5 + 4.0) = 4.0 mm; a port depth of 17.5 ± 0.2 mm moves the
+    protrusion by ∓ 0.2 mm at worst."""
+    margin = result_document(check(FLUSH_PLUG, FLUSH_HEAD))["geometry"]["piston_margin"]
+    assert [margin[name] for name in ("nominal", "min", "max", "rss_min", "rss_max")] == [pytest.approx(4.0)] * 5
+    toleranced = result_document(check(FLUSH_PLUG, dict(FLUSH_HEAD, port_depth={"value": 17.5, "tol": 0.2})))
+    protrusion = toleranced["geometry"]["thread_protrusion"]
+    assert protrusion["nominal"] == pytest.approx(0.0, abs=1e-9)
+    assert (protrusion["min"], protrusion["max"]) == (pytest.approx(-0.2), pytest.approx(0.2))
