@@ -19,7 +19,10 @@ Two lists, both DEMO DATA (an invented fleet workshop; no real engine or part):
   and checked afresh: the worst case.
 
 Server time is measured in-process through Flask's test client (no network, no
-gunicorn): from the request entering the app to the full JSON body being built.
+gunicorn): from the request entering the app to the full JSON body being built. A
+long list of distinct lines is checked half in a forked helper process (see
+`service.batch`); the CPU figures include the helper's, so on the distinct list CPU
+exceeds wall time: that is the second core at work.
 """
 from __future__ import annotations
 
@@ -121,10 +124,12 @@ def bench_endpoint(text: str, repeat: int) -> list[tuple[float, float]]:
         body = text.encode()
         samples = []
         for _ in range(repeat + 1):
-            start, cpu_start = time.perf_counter(), time.process_time()
+            # CPU counts the helper process a long list of distinct lines is split with
+            # (service.batch), reaped before the response is returned.
+            start, cpu_start = time.perf_counter(), time.process_time() + _children_cpu()
             response = client.post("/v1/fit-checks/batch", data=body, content_type="text/csv")
             response.get_data()
-            samples.append((time.perf_counter() - start, time.process_time() - cpu_start))
+            samples.append((time.perf_counter() - start, time.process_time() + _children_cpu() - cpu_start))
             assert response.status_code == 200, response.get_data(as_text=True)[:500]
         return samples[1:]  # the first run also loads pint and the catalogue
 
