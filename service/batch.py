@@ -594,8 +594,12 @@ def _run_split(raw_items: list[RawItem], catalog: Catalog, units: str, require: 
     payload = None
     try:
         started = time.monotonic()
+        our_entries: list[Entry] | None
         our_counts, our_entries = _check_part(ours, catalog, units, require)
-        our_json = _entries_json(our_entries) if json_only else None
+        our_json = None
+        if json_only:
+            our_json = _entries_json(our_entries)
+            our_entries = None  # freed now, while the helper finishes: only the JSON is wanted
         deadline = time.monotonic() + HELPER_GRACE_S + 2 * (time.monotonic() - started)
         payload = _receive(read_end, deadline)
     finally:
