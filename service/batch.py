@@ -10,7 +10,8 @@ Sub-documents (plug, head, options) are therefore loaded once per distinct input
 (keyed by their exact text, or by identity when the CSV reader shares one
 sub-document among lines) and a check is run once per distinct (plug, head, options)
 triple; the engine is pure, so a repeated check is the same answer. The caches live
-for one batch only.
+for one batch only. A long list whose lines mostly differ cannot profit from them; it
+may instead be checked half in a forked helper process (see `_run_split`).
 
 Pure: no Flask, no database. References are looked up through `fetch_references`,
 given all distinct skus and head_ids at once, so the caller can use one query each.
@@ -51,9 +52,10 @@ def collector_paused() -> Iterator[None]:
     """Pause Python's cyclic garbage collector while a build list is read, checked and
     written.
 
-    Why: a 10,000-line list allocates a few million dicts and lists, and the collector
-    runs a pass every 700 allocations, rescanning everything still alive: on a list
-    of distinct lines that was about a third of the whole time. The batch makes no
+    Why: a 10,000-line list allocates a few million dicts and lists; the collector
+    runs a young-generation pass every 700 allocations and, as the survivors pile up,
+    full passes over everything still alive: on a list of distinct lines that was
+    about a third of the whole time. The batch makes no
     reference cycles worth collecting (what it drops is freed by reference counting),
     and whatever cyclic garbage arises is collected once the collector is back on.
     Nested and concurrent batches (threads) share one pause: the collector comes back
