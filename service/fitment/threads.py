@@ -8,7 +8,7 @@ typing a table in, keeps every size the catalogue can name on the same footing.
 Pure floats in millimetres (tolerances internally in micrometres, as ISO 965-1 states
 them). No pint, no I/O.
 
-Sources and grades (see /work/shared/product/reference-values.md):
+Sources and grades (see ../shared/product/reference-values.md (beside the repository)):
 - ISO 68-1 basic profile: published.
 - ISO 965-1 tolerance formulas (es(g), Td(6), Td2(6), TD1(6), TD2(6)): published.
 - ISO 965-1 size ranges for Td2's geometric-mean diameter, the rounding of computed

@@ -1,6 +1,6 @@
 """The seed catalogue: its numbers against their named sources, and the loader's strictness.
 
-Sources (graded as in /work/shared/product/reference-values.md):
+Sources (graded as in ../shared/product/reference-values.md (beside the repository)):
 - NIST SP 811 (2008), appendix B: 1 in = 25.4 mm exactly (published); cross-checked
   against scipy.constants, a general-purpose library.
 - Hex across corners = across flats / cos 30° (exact geometry).

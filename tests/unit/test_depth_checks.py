@@ -1,6 +1,6 @@
 """The four engineering-depth checks on hand-worked cases, through the schemas and engine.
 
-Sources of the numbers (graded as in /work/shared/product/reference-values.md):
+Sources of the numbers (graded as in ../shared/product/reference-values.md (beside the repository)):
 - Shear area: FED-STD-H28/2B / Machinery's Handbook with ISO 965-1 6g/6H limits for
   M14x1.25 (d min 13.760, D2 max 13.368): 29.4389 mm² per mm of engagement (derived).
 - T = K·F·d: Shigley eq. 8-27; K from Shigley table 8-15 (dry/not stated 0.20,

@@ -1,6 +1,6 @@
 """Spark-gap voltage estimates checked against published breakdown data and engine figures.
 
-Sources (graded as in /work/shared/product/reference-values.md):
+Sources (graded as in ../shared/product/reference-values.md (beside the repository)):
 - Paschen constants for air: Raizer, Gas Discharge Physics, table 4.1 (from memory; also
   cited from Bazelyan & Raizer, Spark Discharge, published); derived minimum 305 V at
   0.836 Torr·cm. Measured minimum about 327 V near 0.57 Torr·cm (Naidu & Kamaraju, High

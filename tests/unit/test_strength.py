@@ -1,6 +1,6 @@
 """The thread-stripping estimate checked against published formulas and hand-worked cases.
 
-Sources (graded as in /work/shared/product/reference-values.md):
+Sources (graded as in ../shared/product/reference-values.md (beside the repository)):
 - Internal-thread shear area: FED-STD-H28/2B appendix, Machinery's Handbook (published);
   identity at basic dimensions and the M14x1.25 6g/6H figure: derived.
 - Torque–tension T = K·F·d: Shigley's Mechanical Engineering Design, eq. 8-27; nut

@@ -1,6 +1,6 @@
 """ISO metric thread geometry checked against values published outside the project.
 
-Sources, as graded in /work/shared/product/reference-values.md:
+Sources, as graded in ../shared/product/reference-values.md (beside the repository):
 - ISO 724 basic pitch/minor diameters: "derived; agree with ISO 724 to 3 decimals, from
   memory".
 - ISO 965-1 6g/6H limits: "derived" from the published ISO 965-1 formulas.
