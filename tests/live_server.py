@@ -53,7 +53,7 @@ def plugfit(*args: str, env: Mapping[str, str], timeout: float = 120) -> subproc
 
 @contextmanager
 def running_server(database_url: str, directory: Path, *, seed_demo: bool = False, workers: int = 2,
-                   extra_env: Mapping[str, str] | None = None) -> Iterator[LiveServer]:
+                   threads: int | None = None, extra_env: Mapping[str, str] | None = None) -> Iterator[LiveServer]:
     env = server_environment(database_url, extra_env)
     for command in [("db", "upgrade")] + ([("seed", "--demo")] if seed_demo else []):
         done = plugfit(*command, env=env)
@@ -65,7 +65,7 @@ def running_server(database_url: str, directory: Path, *, seed_demo: bool = Fals
     with log_path.open("w") as log:
         process = subprocess.Popen(
             [sys.executable, "-m", "service.cli", "serve", "--host", "127.0.0.1", "--port", str(port),
-             "--workers", str(workers)],
+             "--workers", str(workers), *(["--threads", str(threads)] if threads is not None else [])],
             cwd=REPO, env=env, stdout=log, stderr=subprocess.STDOUT, start_new_session=True)
     server = LiveServer(f"http://127.0.0.1:{port}", created.stdout.strip(), process, log_path)
     try:

@@ -3,11 +3,6 @@ sync workers (single-threaded, so the batch is split with a forked helper proces
 same answer as checked in one process, and no helper left behind by the worker."""
 from __future__ import annotations
 
-import os
-import signal
-import subprocess
-import sys
-import time
 from pathlib import Path
 
 import pytest
@@ -16,7 +11,7 @@ import requests
 from service import batch
 from service.buildlist import read_csv
 from service.catalog_loader import load_catalog
-from tests.live_server import free_port
+from tests.live_server import running_server
 
 pytestmark = pytest.mark.server
 
@@ -45,43 +40,9 @@ def _children(pid: int) -> list[int]:
 
 @pytest.fixture(scope="module")
 def sync_server(tmp_path_factory, make_empty_database):
-    directory = tmp_path_factory.mktemp("sync-server")
-    env = {key: value for key, value in os.environ.items() if not key.startswith("PLUGFIT_")}
-    env["PLUGFIT_DATABASE_URL"] = make_empty_database()
-    upgraded = subprocess.run([sys.executable, "-m", "service.cli", "db", "upgrade"], cwd=REPO, env=env,
-                              capture_output=True, text=True, timeout=120)
-    assert upgraded.returncode == 0, upgraded.stderr
-    port = free_port()
-    log = (directory / "server.log").open("w")
-    process = subprocess.Popen(
-        [sys.executable, "-m", "service.cli", "serve", "--host", "127.0.0.1", "--port", str(port),
-         "--workers", "1", "--threads", "1"],
-        cwd=REPO, env=env, stdout=log, stderr=subprocess.STDOUT, start_new_session=True)
-    base_url = f"http://127.0.0.1:{port}"
-    try:
-        deadline = time.monotonic() + 60
-        while True:
-            if process.poll() is not None:
-                pytest.fail(f"plugfit serve exited with {process.returncode}: "
-                            f"{(directory / 'server.log').read_text()[-2000:]}")
-            try:
-                if requests.get(base_url + "/v1/health", timeout=2).status_code == 200:
-                    break
-            except requests.ConnectionError:
-                pass
-            if time.monotonic() > deadline:
-                pytest.fail("plugfit serve did not answer /v1/health within 60 s")
-            time.sleep(0.2)
-        yield base_url, process
-    finally:
-        if process.poll() is None:  # only the process group this fixture started
-            os.killpg(process.pid, signal.SIGTERM)
-            try:
-                process.wait(timeout=20)
-            except subprocess.TimeoutExpired:
-                os.killpg(process.pid, signal.SIGKILL)
-                process.wait()
-        log.close()
+    """One sync worker, one thread: the only kind of worker a batch may split in."""
+    with running_server(make_empty_database(), tmp_path_factory.mktemp("sync-server"), workers=1, threads=1) as live:
+        yield live.base_url, live.process
 
 
 def test_a_sync_worker_splits_a_long_distinct_list_and_answers_as_one_process_would(sync_server, monkeypatch):

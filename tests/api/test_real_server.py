@@ -12,18 +12,16 @@ import os
 import re
 import shlex
 import shutil
-import signal
-import socket
 import subprocess
 import sys
-import time
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Iterator
 
 import pytest
 import requests
 
-from service import db
+from tests.live_server import LiveServer, running_server
 
 REPO = Path(__file__).resolve().parents[2]
 README = REPO / "README.md"
@@ -33,66 +31,12 @@ README_BASE_URL = "http://127.0.0.1:8000"
 pytestmark = pytest.mark.server
 
 
-def free_port() -> int:
-    with socket.socket() as probe:
-        probe.bind(("127.0.0.1", 0))
-        return probe.getsockname()[1]
-
-
-@dataclass
-class Server:
-    base_url: str
-    key: str
-    process: subprocess.Popen
-
-
-def plugfit(*args: str, env: dict[str, str]) -> subprocess.CompletedProcess:
-    return subprocess.run([sys.executable, "-m", "service.cli", *args], cwd=REPO, env=env,
-                          capture_output=True, text=True, timeout=120)
-
-
 @pytest.fixture(scope="module")
-def server(tmp_path_factory, make_empty_database) -> Server:
-    directory = tmp_path_factory.mktemp("server")
-    env = {key: value for key, value in os.environ.items() if not key.startswith("PLUGFIT_")}
-    env["PLUGFIT_DATABASE_URL"] = make_empty_database()  # SQLite, or PostgreSQL under PLUGFIT_TEST_POSTGRES_URL
-    upgraded = plugfit("db", "upgrade", env=env)
-    assert upgraded.returncode == 0, upgraded.stderr
-    created = plugfit("keys", "create", "real-server-test", env=env)
-    assert created.returncode == 0, created.stderr
-    key = created.stdout.strip()
-    port = free_port()
-    log = (directory / "server.log").open("w")
-    process = subprocess.Popen(
-        [sys.executable, "-m", "service.cli", "serve", "--host", "127.0.0.1", "--port", str(port),
-         "--workers", "2", "--threads", "2"],
-        cwd=REPO, env=env, stdout=log, stderr=subprocess.STDOUT, start_new_session=True)
-    base_url = f"http://127.0.0.1:{port}"
-    try:
-        deadline = time.monotonic() + 60
-        while True:
-            if process.poll() is not None:
-                pytest.fail(f"plugfit serve exited with {process.returncode}: "
-                            f"{(directory / 'server.log').read_text()[-2000:]}")
-            try:
-                if requests.get(base_url + "/v1/health", timeout=2).status_code == 200:
-                    break
-            except requests.ConnectionError:
-                pass
-            if time.monotonic() > deadline:
-                pytest.fail("plugfit serve did not answer /v1/health within 60 s")
-            time.sleep(0.2)
-        yield Server(base_url, key, process)
-    finally:
-        # Only the process group this fixture started.
-        if process.poll() is None:
-            os.killpg(process.pid, signal.SIGTERM)
-            try:
-                process.wait(timeout=20)
-            except subprocess.TimeoutExpired:
-                os.killpg(process.pid, signal.SIGKILL)
-                process.wait()
-        log.close()
+def server(tmp_path_factory, make_empty_database) -> Iterator[LiveServer]:
+    """SQLite, or PostgreSQL under PLUGFIT_TEST_POSTGRES_URL; gthread workers, as a
+    deployment that sets PLUGFIT_THREADS would run them."""
+    with running_server(make_empty_database(), tmp_path_factory.mktemp("server"), workers=2, threads=2) as live:
+        yield live
 
 
 def test_a_real_server_stores_a_plug_and_checks_it_over_http(server):
