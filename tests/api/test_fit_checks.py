@@ -3,8 +3,8 @@ from __future__ import annotations
 
 import pytest
 
-from schemas.problem import PROBLEM_MEDIA_TYPE
 from schemas.results import FitResultSchema
+from tests.api.problems import problem
 
 # The contract's flush fit: reach 19 on a 1.5 mm gasket in a 17.5 mm port puts the
 # thread end at 17.5 mm, flush (protrusion 0); the tip at 17.5 + 4.0 = 21.5 mm; the
@@ -16,12 +16,6 @@ FLUSH_HEAD = {"thread": "M14x1.25", "seat": "flat", "port_depth": 17.5, "piston_
 
 def check(client, body, query="", headers=None):
     return client.post("/v1/fit-checks" + query, json=body, headers=headers or {})
-
-
-def problem(response, status):
-    assert response.status_code == status, response.get_data(as_text=True)
-    assert response.mimetype == PROBLEM_MEDIA_TYPE
-    return response.get_json(force=True)
 
 
 @pytest.fixture

@@ -3,7 +3,8 @@ from __future__ import annotations
 
 import pytest
 
-from schemas.problem import PROBLEM_MEDIA_TYPE
+from tests.api.problems import problem
+
 
 HEAD = {
     "head_id": "T-TWIN-1",
@@ -37,12 +38,6 @@ def create(client, auth, **changes):
     response = client.post("/v1/heads", json=document, headers=auth)
     assert response.status_code == 201, response.get_json()
     return response
-
-
-def problem(response, status):
-    assert response.status_code == status, response.get_data(as_text=True)
-    assert response.mimetype == PROBLEM_MEDIA_TYPE
-    return response.get_json(force=True)
 
 
 def test_a_created_head_keeps_every_value_and_tolerance(client, auth):

@@ -7,9 +7,9 @@ import pytest
 from sqlalchemy import text
 from sqlalchemy.exc import DatabaseError
 
-from schemas.problem import PROBLEM_MEDIA_TYPE
 from service import create_app, db, repository
 from service.auth import create_key
+from tests.api.problems import problem
 
 PLUG = {"sku": "LU-14F-19", "thread": "M14x1.25", "seat": "flat", "reach": 19.0, "gasket_thickness": 1.5,
         "firing_end": 4.0, "quantity_on_hand": 10, "location": "A1"}
@@ -20,12 +20,6 @@ RESOURCES = [
     pytest.param("plugs", PLUG, "sku", "quantity_on_hand", (4, 9), id="plug"),
     pytest.param("heads", HEAD, "head_id", "description", ("counter A's note", "counter B's note"), id="head"),
 ]
-
-
-def problem(response, status: int) -> dict:
-    assert response.status_code == status, response.get_data(as_text=True)
-    assert response.mimetype == PROBLEM_MEDIA_TYPE
-    return response.get_json(force=True)
 
 
 @pytest.fixture

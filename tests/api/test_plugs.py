@@ -5,7 +5,8 @@ import json
 
 import pytest
 
-from schemas.problem import PROBLEM_MEDIA_TYPE
+from tests.api.problems import problem
+
 
 PLUG = {
     "sku": "T-14F-19",
@@ -31,12 +32,6 @@ def create(client, auth, **changes):
     response = client.post("/v1/plugs", json=document, headers=auth)
     assert response.status_code == 201, response.get_json()
     return response
-
-
-def problem(response, status):
-    assert response.status_code == status, response.get_data(as_text=True)
-    assert response.mimetype == PROBLEM_MEDIA_TYPE
-    return response.get_json(force=True)
 
 
 def test_creating_a_plug_answers_201_with_its_location_and_etag(client, auth):
