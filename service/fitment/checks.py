@@ -14,7 +14,7 @@ import math
 from functools import lru_cache
 from typing import Callable, NamedTuple
 
-from .context import FitContext
+from .context import FitContext, Skip, skip_reason
 from .designation import parse_designation
 from .spark import STANDARD_INTAKE_PRESSURE_BAR, STANDARD_INTAKE_TEMPERATURE_K, estimate_spark
 from .stack import Stack
@@ -35,7 +35,7 @@ TORQUE = "torque"
 EPSILON_MM = 1e-9
 
 
-def _not_given_table(*inputs: str) -> dict[tuple[bool, ...], str]:
+def _not_given_table(check: str, *inputs: str) -> dict[tuple[bool, ...], Skip]:
     """Every "<input> and <input> not given" reason for a check's optional inputs, keyed by
     which of them are missing (True = missing). Built once at import: most requests leave
     the electrical and boot data out, so these checks run on every fit just to say so,
@@ -44,15 +44,22 @@ def _not_given_table(*inputs: str) -> dict[tuple[bool, ...], str]:
     for pattern in itertools.product((False, True), repeat=len(inputs)):
         missing = [text for text, absent in zip(inputs, pattern) if absent]
         if missing:
-            table[pattern] = " and ".join(missing) + " not given"
+            table[pattern] = skip_reason(check, " and ".join(missing) + " not given")
     return table
 
 
-_GAP_VOLTAGE_NOT_GIVEN = _not_given_table("a gap (the plug's or the gap option)", "the head's compression_ratio",
-                                          "the head's ignition_voltage")
-_HEAT_RANGE_NOT_GIVEN = _not_given_table("the head's heat_range_band", "the plug's heat_range")
-_BOOT_NOT_GIVEN = _not_given_table("the plug's terminal_height", "the head's boot_range",
+_GAP_VOLTAGE_NOT_GIVEN = _not_given_table("gap_voltage", "a gap (the plug's or the gap option)",
+                                          "the head's compression_ratio", "the head's ignition_voltage")
+_HEAT_RANGE_NOT_GIVEN = _not_given_table("heat_range", "the head's heat_range_band", "the plug's heat_range")
+_BOOT_NOT_GIVEN = _not_given_table("boot", "the plug's terminal_height", "the head's boot_range",
                                    "the plug's gasket_thickness")
+# The reasons that never change, for the checks that run on every fit.
+_TOOL_CLEARANCE_NOT_GIVEN = skip_reason("tool_clearance", "needs the plug's hex and the head's well_bore")
+_HEX_NOT_GIVEN = skip_reason("hex", "needs the plug's hex and the hex the head's tooling is made for")
+_RESISTOR_UNKNOWN = skip_reason("resistor", "the head does not say whether a resistor plug is required")
+_RESISTOR_NOT_SAID = skip_reason("resistor", "the head requires a resistor plug and the plug does not say if it "
+                                             "has one")
+_THREAD_STRENGTH_OTHER_THREAD = skip_reason("thread_strength", "it needs a plug of the port's own thread and seat")
 
 
 def check_thread(ctx: FitContext) -> None:
@@ -131,8 +138,8 @@ class _Obstacle(NamedTuple):
     entry_name: str  # its margin's name in the geometry
     too_close: str  # message templates: within the minimum clearance ...
     interfering: str  # ... and past the obstacle
-    neither_given: str  # not-checked reasons
-    needs_port_depth: str
+    neither_given: Skip  # not-checked reasons
+    needs_port_depth: Skip
 
 
 def _obstacle(check: str, code: str, obstacle: str, seat_field: str, breakout_field: str) -> _Obstacle:
@@ -143,8 +150,8 @@ def _obstacle(check: str, code: str, obstacle: str, seat_field: str, breakout_fi
         f"The electrode would meet the {obstacle}: at its closest it reaches {{overlap}} past the "
         f"{obstacle} (worst case). It needs {{shortfall}} more room to keep the minimum clearance "
         "of {min_clearance}.",
-        f"the head gives neither {breakout_field} nor {seat_field}",
-        f"{breakout_field} needs the port's port_depth or design_reach")
+        skip_reason(check, f"the head gives neither {breakout_field} nor {seat_field}"),
+        skip_reason(check, f"{breakout_field} needs the port's port_depth or design_reach"))
 
 
 _PISTON = _obstacle("piston", "PISTON_CONTACT", "piston crown at top dead centre", "seat_to_piston",
@@ -156,13 +163,13 @@ def _clearance_check(ctx: FitContext, obstacle: _Obstacle, from_seat: object, fr
     margin = ctx.geometry.get(obstacle.entry_name)
     if margin is None:
         if from_seat is None and from_breakout is None:
-            ctx.not_checked(obstacle.check, obstacle.neither_given)
+            ctx.skip(obstacle.neither_given)
         elif ctx.tip is None:
             missing = "the plug's firing_end not given" if ctx.plug.firing_end is None and ctx.thread_end is not None \
                 else _missing_for_thread_end(ctx, need_port=False)
             ctx.not_checked(obstacle.check, missing)
         else:
-            ctx.not_checked(obstacle.check, obstacle.needs_port_depth)
+            ctx.skip(obstacle.needs_port_depth)
         return
     minimum = ctx.min_clearance()
     worst = ctx.low(margin)
@@ -186,7 +193,7 @@ def check_valve(ctx: FitContext) -> None:
 def check_tool_clearance(ctx: FitContext) -> None:
     hex_mm, well_bore = ctx.plug.hex, ctx.port.well_bore
     if hex_mm is None or well_bore is None:
-        ctx.not_checked("tool_clearance", "needs the plug's hex and the head's well_bore")
+        ctx.skip(_TOOL_CLEARANCE_NOT_GIVEN)
         return
     size = ctx.catalog.hex_size(hex_mm)
     if size is None:
@@ -209,7 +216,7 @@ def _hex_family(ctx: FitContext, hex_mm: float) -> str:
 def check_hex(ctx: FitContext) -> None:
     plug_hex, tooling_hex = ctx.plug.hex, ctx.port.hex
     if plug_hex is None or tooling_hex is None:
-        ctx.not_checked("hex", "needs the plug's hex and the hex the head's tooling is made for")
+        ctx.skip(_HEX_NOT_GIVEN)
         return
     plug_family, tooling_family = _hex_family(ctx, plug_hex), _hex_family(ctx, tooling_hex)
     if plug_family != tooling_family:
@@ -222,9 +229,9 @@ def check_hex(ctx: FitContext) -> None:
 def check_resistor(ctx: FitContext) -> None:
     required, resistor = ctx.port.resistor_required, ctx.plug.resistor
     if required is None:
-        ctx.not_checked("resistor", "the head does not say whether a resistor plug is required")
+        ctx.skip(_RESISTOR_UNKNOWN)
     elif required and resistor is None:
-        ctx.not_checked("resistor", "the head requires a resistor plug and the plug does not say if it has one")
+        ctx.skip(_RESISTOR_NOT_SAID)
     elif required and not resistor:
         ctx.add("RESISTOR_REQUIRED", "resistor", "warn",
                 "The head calls for a resistor plug and this plug has none: expect radio "
@@ -269,9 +276,9 @@ def check_thread_strength(ctx: FitContext) -> None:
     plug, port, options = ctx.plug, ctx.port, ctx.options
     thread = _port_thread(port.thread) if plug.thread == port.thread and plug.seat == port.seat else None
     if thread is None:
-        ctx.not_checked("thread_strength", "it needs a plug of the port's own thread and seat")
+        ctx.skip(_THREAD_STRENGTH_OTHER_THREAD)
         return
-    if ctx.thread_end is None or ctx.port_depth is None:
+    if "thread_protrusion" not in ctx.geometry:  # there is a thread end and a port depth
         ctx.not_checked("thread_strength", _missing_for_thread_end(ctx, need_port=True))
         return
     material = port.material or "aluminium"
@@ -344,8 +351,7 @@ def check_gap_voltage(ctx: FitContext) -> None:
     plug, port = ctx.plug, ctx.port
     gap = ctx.options.gap if ctx.options.gap is not None else plug.gap
     if gap is None or port.compression_ratio is None or port.ignition_voltage_kv is None:
-        ctx.not_checked("gap_voltage", _GAP_VOLTAGE_NOT_GIVEN[
-            gap is None, port.compression_ratio is None, port.ignition_voltage_kv is None])
+        ctx.skip(_GAP_VOLTAGE_NOT_GIVEN[gap is None, port.compression_ratio is None, port.ignition_voltage_kv is None])
         return
     if gap <= 0.0:
         ctx.not_checked("gap_voltage", "a gap of zero has nothing to break down")
@@ -387,7 +393,7 @@ def check_heat_range(ctx: FitContext) -> None:
     scales are not mapped onto each other."""
     band, rating = ctx.port.heat_range_band, ctx.plug.heat_range
     if band is None or rating is None:
-        ctx.not_checked("heat_range", _HEAT_RANGE_NOT_GIVEN[band is None, rating is None])
+        ctx.skip(_HEAT_RANGE_NOT_GIVEN[band is None, rating is None])
         return
     plug_scale, band_scale = _scale_name(rating.scale), _scale_name(band.scale)
     if plug_scale.casefold() != band_scale.casefold():
@@ -418,7 +424,7 @@ def check_boot(ctx: FitContext) -> None:
     terminal_height + s from the seat face and must lie in the head's boot_range."""
     plug, boot = ctx.plug, ctx.port.boot_range
     if plug.terminal_height is None or boot is None or ctx.gasket is None:
-        ctx.not_checked("boot", _BOOT_NOT_GIVEN[plug.terminal_height is None, boot is None, ctx.gasket is None])
+        ctx.skip(_BOOT_NOT_GIVEN[plug.terminal_height is None, boot is None, ctx.gasket is None])
         return
     top = (Stack.of(plug.terminal_height) + ctx.gasket).bounds()
     lowest, highest = ctx.low(top), ctx.high(top)

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from functools import lru_cache
 from operator import itemgetter
+from typing import NamedTuple
 
 from .catalog import Catalog, TorqueGuide
 from .defaults import DYNAMIC_ALLOWANCE_MM, FLUSH_TOLERANCE_MM, MIN_CLEARANCE_MM, Default
@@ -15,10 +16,21 @@ from .model import Bounds, Finding, Options, PlugSpec, PortSpec, Value
 from .stack import Stack
 
 
+class Skip(NamedTuple):
+    """A check's NOT_CHECKED finding for one reason, made once in both severities: `info`,
+    or `fail` when the request requires the check. Findings are immutable, so every
+    result shares them; checks whose reasons are fixed build theirs at import."""
+
+    check: str
+    info: Finding
+    fail: Finding
+
+
 @lru_cache(maxsize=1024)
-def _not_checked(check: str, missing: str, severity: str) -> Finding:
-    # Findings are immutable, so the same few NOT_CHECKED findings are shared by every result.
-    return Finding("NOT_CHECKED", check, severity, f"The {check.replace('_', ' ')} check was not made: {missing}.", {})
+def skip_reason(check: str, missing: str) -> Skip:
+    message = f"The {check.replace('_', ' ')} check was not made: {missing}."
+    return Skip(check, Finding("NOT_CHECKED", check, "info", message, {}),
+                Finding("NOT_CHECKED", check, "fail", message, {}))
 
 
 def _default_note(name: str, default: Default) -> str:
@@ -40,7 +52,7 @@ _new = tuple.__new__
 
 class FitContext:
     __slots__ = ("plug", "port", "options", "catalog", "findings", "analysis", "assumptions",
-                 "torque", "gasket", "port_depth", "port_depth_long", "thread_end", "tip",
+                 "torque", "gasket", "port_depth", "port_depth_long",
                  "geometry", "worst", "low", "high")
 
     def __init__(self, plug: PlugSpec, port: PortSpec, options: Options, catalog: Catalog) -> None:
@@ -58,8 +70,6 @@ class FitContext:
         self.gasket: Stack | None = None
         self.port_depth: Stack | None = None
         self.port_depth_long: Stack | None = None
-        self.thread_end: Stack | None = None
-        self.tip: Stack | None = None
         # The worst severity found so far (0 info, 1 warn, 2 fail), kept as findings are
         # added so the verdict needs no second pass over them.
         self.worst = 0
@@ -71,6 +81,20 @@ class FitContext:
         else:
             self.low, self.high = _WORST_CASE_LOW, _WORST_CASE_HIGH
 
+    # `e` and `t` as stacks, made when asked for: the geometry entries already carry their
+    # bounds, and only the diagram and a few not-checked reasons read the stacks themselves.
+    @property
+    def thread_end(self) -> Stack | None:
+        """e = reach - s (None without a reach or a seat stand-off)."""
+        reach = self.plug.reach
+        return None if reach is None or self.gasket is None else reach - self.gasket
+
+    @property
+    def tip(self) -> Stack | None:
+        """t = e + firing_end (None without a thread end or a firing end)."""
+        end, firing_end = self.thread_end, self.plug.firing_end
+        return None if end is None or firing_end is None else end + firing_end
+
     # --- reporting -------------------------------------------------------------------
     def add(self, code: str, check: str, severity: str, message: str, **values: Value) -> None:
         rank = _SEVERITY_RANK[severity]
@@ -81,11 +105,15 @@ class FitContext:
 
     def not_checked(self, check: str, missing: str) -> None:
         """Record that `check` could not run; a required check turns this into a fail."""
-        if check in self.options.require:
+        self.skip(skip_reason(check, missing))
+
+    def skip(self, reason: Skip) -> None:
+        """`not_checked` with a reason made beforehand by `skip_reason`."""
+        if reason.check in self.options.require:
             self.worst = 2
-            self.findings.append(_not_checked(check, missing, "fail"))
+            self.findings.append(reason.fail)
         else:
-            self.findings.append(_not_checked(check, missing, "info"))
+            self.findings.append(reason.info)
 
     def assume(self, text: str) -> None:
         self.assumptions.append(text)
