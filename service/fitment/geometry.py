@@ -98,26 +98,29 @@ def derive(ctx: FitContext) -> None:
     reach = plug.reach
     if reach is None or gasket is None:
         return
+    # Each stack unpacked once as (nominal, up, down, up², down²): cheaper than indexing it.
+    r, r_up, r_down, r_up2, r_down2 = reach
+    s, s_up, s_down, s_up2, s_down2 = gasket
     # e = reach - s
-    end, end_up, end_down, end_up_sq, end_down_sq = (reach[0] - gasket[0], reach[1] + gasket[2],
-                                                     reach[2] + gasket[1], reach[3] + gasket[4],
-                                                     reach[4] + gasket[3])
+    e, e_up, e_down, e_up2, e_down2 = r - s, r_up + s_down, r_down + s_up, r_up2 + s_down2, r_down2 + s_up2
     if depth is not None:
         # Δ = e - D
+        d, d_up, d_down, d_up2, d_down2 = depth
         protrusion = geometry["thread_protrusion"] = _bounds(
-            end - depth[0], end_up + depth[2], end_down + depth[1], end_up_sq + depth[4], end_down_sq + depth[3])
+            e - d, e_up + d_down, e_down + d_up, e_up2 + d_down2, e_down2 + d_up2)
         # Δ_long = e - D_long; without a long side it is the same entry (immutable, so shared).
-        geometry["thread_recess"] = protrusion if depth_long is depth else _bounds(
-            end - depth_long[0], end_up + depth_long[2], end_down + depth_long[1],
-            end_up_sq + depth_long[4], end_down_sq + depth_long[3])
+        if depth_long is depth:
+            geometry["thread_recess"] = protrusion
+        else:
+            d, d_up, d_down, d_up2, d_down2 = depth_long
+            geometry["thread_recess"] = _bounds(e - d, e_up + d_down, e_down + d_up, e_up2 + d_down2, e_down2 + d_up2)
     firing_end = plug.firing_end
     if firing_end is None:
         return
     # t = e + firing_end
-    tip, tip_up, tip_down, tip_up_sq, tip_down_sq = (end + firing_end[0], end_up + firing_end[1],
-                                                     end_down + firing_end[2], end_up_sq + firing_end[3],
-                                                     end_down_sq + firing_end[4])
-    geometry["tip_position"] = _bounds(tip, tip_up, tip_down, tip_up_sq, tip_down_sq)
+    f, f_up, f_down, f_up2, f_down2 = firing_end
+    t, t_up, t_down, t_up2, t_down2 = e + f, e_up + f_up, e_down + f_down, e_up2 + f_up2, e_down2 + f_down2
+    geometry["tip_position"] = _bounds(t, t_up, t_down, t_up2, t_down2)
     # Many heads give no valve (or piston) data; skip the call for them.
     piston = (_obstacle(port.seat_to_piston, port.piston_clearance, depth)
               if port.seat_to_piston is not None or port.piston_clearance is not None else None)
@@ -127,17 +130,14 @@ def derive(ctx: FitContext) -> None:
         return
     # m = obstacle - (t + allowance), the allowance an exact term: its zero tolerances are
     # added as `Stack.__add__` would, so even a signed zero comes out as before.
-    allowance = ctx.dynamic_allowance()
-    reserved, reserved_up, reserved_down = tip + allowance, tip_up + 0.0, tip_down + 0.0
-    reserved_up_sq, reserved_down_sq = tip_up_sq + 0.0, tip_down_sq + 0.0
+    a = t + ctx.dynamic_allowance()
+    a_up, a_down, a_up2, a_down2 = t_up + 0.0, t_down + 0.0, t_up2 + 0.0, t_down2 + 0.0
     if piston is not None:
-        geometry["piston_margin"] = _bounds(
-            piston[0] - reserved, piston[1] + reserved_down, piston[2] + reserved_up,
-            piston[3] + reserved_down_sq, piston[4] + reserved_up_sq)
+        o, o_up, o_down, o_up2, o_down2 = piston
+        geometry["piston_margin"] = _bounds(o - a, o_up + a_down, o_down + a_up, o_up2 + a_down2, o_down2 + a_up2)
     if valve is not None:
-        geometry["valve_margin"] = _bounds(
-            valve[0] - reserved, valve[1] + reserved_down, valve[2] + reserved_up,
-            valve[3] + reserved_down_sq, valve[4] + reserved_up_sq)
+        o, o_up, o_down, o_up2, o_down2 = valve
+        geometry["valve_margin"] = _bounds(o - a, o_up + a_down, o_down + a_up, o_up2 + a_down2, o_down2 + a_up2)
 
 
 def _bounds(nominal: float, up: float, down: float, up_sq: float, down_sq: float) -> Bounds:
