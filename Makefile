@@ -15,7 +15,7 @@ PORT   ?= 8000
 # makes and drops a scratch database of its own). REQUIRE_POSTGRES=1 makes its absence fatal.
 POSTGRES_URL ?= postgresql+psycopg://postgres@127.0.0.1:5432/postgres
 
-.PHONY: run test test-sqlite test-postgres venv migrate seed serve bench-load
+.PHONY: run test test-sqlite test-postgres venv migrate seed serve bench bench-load
 
 ## Set up the virtual environment (again only when pyproject.toml changed).
 venv: $(STAMP)
@@ -57,6 +57,10 @@ test-sqlite: venv
 ## The database layers (tests/integration, tests/api, real servers included) on PostgreSQL.
 test-postgres: venv
 	PLUGFIT_TEST_POSTGRES_URL='$(POSTGRES_URL)' $(BIN)/python -m pytest tests/integration tests/api
+
+## The engine benchmark (pytest-benchmark; benchmarks/bench_engine.py). Not part of `make test`.
+bench: venv
+	$(BIN)/python -m pytest benchmarks/bench_engine.py --benchmark-only -p no:cacheprovider -s
 
 ## Load benchmark over loopback (see benchmarks/bench_load.py; uses wrk when installed).
 bench-load: venv

@@ -1,6 +1,6 @@
 """How fast the pure engine checks plug/port pairs, and what unit strings cost.
 
-Run: .venv/bin/pytest benchmarks/bench_engine.py --benchmark-only -p no:cacheprovider
+Run: make bench (.venv/bin/pytest benchmarks/bench_engine.py --benchmark-only -p no:cacheprovider -s)
 Goal (issue 2): at least 100,000 plug/port pairs per second on one core with plain-float
 inputs. The figures measured on the project's 2-core machine are in the README.
 """
@@ -53,10 +53,17 @@ def test_engine_checks_plain_float_pairs(benchmark, catalog):
         for plug, port in pairs:
             check_fit(plug, port, options, catalog)
 
-    benchmark(run)
-    per_second = PAIRS_PER_ROUND / benchmark.stats.stats.median
-    benchmark.extra_info["pairs_per_second"] = round(per_second)
-    print(f"\nengine: {per_second:,.0f} plug/port pairs per second (median round)")
+    # 500 rounds (about 5 s): this machine's host slows some seconds and not others, and a
+    # median over pytest-benchmark's default 1 s moved by a third between runs.
+    benchmark.pedantic(run, rounds=500, warmup_rounds=20)
+    # Both figures: the median is what a run sees, the best round what the code costs when
+    # nothing else on the machine gets in the way (a shared host's noise only slows rounds).
+    stats = benchmark.stats.stats
+    median_per_second, best_per_second = PAIRS_PER_ROUND / stats.median, PAIRS_PER_ROUND / stats.min
+    benchmark.extra_info["pairs_per_second"] = round(median_per_second)
+    benchmark.extra_info["pairs_per_second_best_round"] = round(best_per_second)
+    print(f"\nengine: {median_per_second:,.0f} plug/port pairs per second (median round), "
+          f"{best_per_second:,.0f} (best round)")
 
 
 def test_unit_string_parse_with_the_cache(benchmark):

@@ -1,1 +1,2 @@
-"""Benchmarks are not tests: run them with `make bench` (pytest-benchmark)."""
+"""Benchmarks are not tests: `make bench` runs the engine's (pytest-benchmark); the others
+are scripts with a `Run:` line in their docstrings."""
