@@ -13,11 +13,10 @@ towards the chamber), built as tolerance stacks before any check runs.
 from __future__ import annotations
 
 from functools import lru_cache
-from math import sqrt
 
 from .context import FitContext
 from .model import Dim
-from .stack import ZERO, Bounds, Stack
+from .stack import ZERO, Stack, bounds_of
 
 _new = tuple.__new__
 
@@ -56,20 +55,16 @@ def _port_depth(ctx: FitContext) -> Stack | None:
     if port.seat == "conical":
         return port.design_reach
     thickness = _standard_gasket(ctx, port.thread, "port depth derived from design_reach")
-    if thickness is None:
-        return None
-    # D = R_d - s_std, the standard gasket exact: `design_reach - Stack.exact(thickness)`.
-    reach = port.design_reach
-    return _new(Stack, (reach[0] - thickness, reach[1] + 0.0, reach[2] + 0.0, reach[3] + 0.0, reach[4] + 0.0))
+    return None if thickness is None else port.design_reach - Stack.exact(thickness)
 
 
 def _clearance_stack(ctx: FitContext, from_seat: Dim | None, from_breakout: Dim | None) -> Stack | None:
     """Distance from the seat face to an obstacle (piston, valve) along the axis."""
-    obstacle = _obstacle(from_seat, from_breakout, ctx.port_depth)
+    obstacle = _obstacle_terms(from_seat, from_breakout, ctx.port_depth)
     return obstacle if obstacle is None or from_seat is not None else _new(Stack, obstacle)
 
 
-def _obstacle(from_seat: Dim | None, from_breakout: Dim | None, depth: Stack | None) -> tuple | None:
+def _obstacle_terms(from_seat: Dim | None, from_breakout: Dim | None, depth: Stack | None) -> tuple | None:
     """`_clearance_stack`'s terms as a plain tuple: `derive` only reads it once."""
     if from_seat is not None:
         return from_seat
@@ -84,7 +79,7 @@ def derive(ctx: FitContext) -> None:
     """Fill the context's stacks and `geometry` entries from whatever inputs exist.
 
     Every fit runs this first, so the stack arithmetic is written out on local floats
-    (`Stack.__sub__`, `Stack.__add__` and `Stack.bounds`, the same operations in the same
+    (`Stack.__sub__`, `Stack.__add__` and `bounds_of`, the same operations in the same
     order, so every bound is bit-for-bit what the operators give) rather than through
     the operators: each operator call builds a tuple subclass, and a fit used to make a
     dozen of them that nobody kept. Only the geometry entries are built; `ctx.thread_end`
@@ -106,25 +101,25 @@ def derive(ctx: FitContext) -> None:
     if depth is not None:
         # Δ = e - D
         d, d_up, d_down, d_up2, d_down2 = depth
-        protrusion = geometry["thread_protrusion"] = _bounds(
+        protrusion = geometry["thread_protrusion"] = bounds_of(
             e - d, e_up + d_down, e_down + d_up, e_up2 + d_down2, e_down2 + d_up2)
         # Δ_long = e - D_long; without a long side it is the same entry (immutable, so shared).
         if depth_long is depth:
             geometry["thread_recess"] = protrusion
         else:
             d, d_up, d_down, d_up2, d_down2 = depth_long
-            geometry["thread_recess"] = _bounds(e - d, e_up + d_down, e_down + d_up, e_up2 + d_down2, e_down2 + d_up2)
+            geometry["thread_recess"] = bounds_of(e - d, e_up + d_down, e_down + d_up, e_up2 + d_down2, e_down2 + d_up2)
     firing_end = plug.firing_end
     if firing_end is None:
         return
     # t = e + firing_end
     f, f_up, f_down, f_up2, f_down2 = firing_end
     t, t_up, t_down, t_up2, t_down2 = e + f, e_up + f_up, e_down + f_down, e_up2 + f_up2, e_down2 + f_down2
-    geometry["tip_position"] = _bounds(t, t_up, t_down, t_up2, t_down2)
+    geometry["tip_position"] = bounds_of(t, t_up, t_down, t_up2, t_down2)
     # Many heads give no valve (or piston) data; skip the call for them.
-    piston = (_obstacle(port.seat_to_piston, port.piston_clearance, depth)
+    piston = (_obstacle_terms(port.seat_to_piston, port.piston_clearance, depth)
               if port.seat_to_piston is not None or port.piston_clearance is not None else None)
-    valve = (_obstacle(port.seat_to_valve, port.valve_clearance, depth)
+    valve = (_obstacle_terms(port.seat_to_valve, port.valve_clearance, depth)
              if port.seat_to_valve is not None or port.valve_clearance is not None else None)
     if piston is None and valve is None:
         return
@@ -134,14 +129,8 @@ def derive(ctx: FitContext) -> None:
     a_up, a_down, a_up2, a_down2 = t_up + 0.0, t_down + 0.0, t_up2 + 0.0, t_down2 + 0.0
     if piston is not None:
         o, o_up, o_down, o_up2, o_down2 = piston
-        geometry["piston_margin"] = _bounds(o - a, o_up + a_down, o_down + a_up, o_up2 + a_down2, o_down2 + a_up2)
+        geometry["piston_margin"] = bounds_of(o - a, o_up + a_down, o_down + a_up, o_up2 + a_down2, o_down2 + a_up2)
     if valve is not None:
         o, o_up, o_down, o_up2, o_down2 = valve
-        geometry["valve_margin"] = _bounds(o - a, o_up + a_down, o_down + a_up, o_up2 + a_down2, o_down2 + a_up2)
+        geometry["valve_margin"] = bounds_of(o - a, o_up + a_down, o_down + a_up, o_up2 + a_down2, o_down2 + a_up2)
 
-
-def _bounds(nominal: float, up: float, down: float, up_sq: float, down_sq: float) -> Bounds:
-    """`Stack(nominal, up, down, up_sq, down_sq).bounds()` without building the stack."""
-    return _new(Bounds, (nominal, nominal - down, nominal + up,
-                         nominal - sqrt(down_sq) if down_sq else nominal,
-                         nominal + sqrt(up_sq) if up_sq else nominal))

@@ -56,12 +56,17 @@ class Stack(NamedTuple):
                             self[3] + other[4], self[4] + other[3]))
 
     def bounds(self) -> Bounds:
-        # Worst case: every tolerance at its limit, summed linearly (arithmetic stack).
-        # RSS: nominal -/+ sqrt(sum of squared tolerances), assuming independent, centred
-        # variation (the usual statistical stack).
-        n, up, down, up_sq, down_sq = self
-        return _new(Bounds, (n, n - down, n + up, n - sqrt(down_sq) if down_sq else n,
-                             n + sqrt(up_sq) if up_sq else n))
+        return bounds_of(*self)
+
+
+def bounds_of(nominal: float, up: float, down: float, up_sq: float, down_sq: float) -> Bounds:
+    """A stack's bounds from its terms, for code that sums stacks on plain floats."""
+    # Worst case: every tolerance at its limit, summed linearly (arithmetic stack).
+    # RSS: nominal -/+ sqrt(sum of squared tolerances), assuming independent, centred
+    # variation (the usual statistical stack).
+    return _new(Bounds, (nominal, nominal - down, nominal + up,
+                         nominal - sqrt(down_sq) if down_sq else nominal,
+                         nominal + sqrt(up_sq) if up_sq else nominal))
 
 
 ZERO = Stack.exact(0.0)
