@@ -21,7 +21,7 @@ Two lists, both DEMO DATA (an invented fleet workshop; no real engine or part):
 Server time is measured in-process through Flask's test client (no network, no
 gunicorn): from the request entering the app to the full JSON body being built. A
 long list of distinct lines is checked half in a forked helper process (see
-`service.batch`); the CPU figures include the helper's, so on the distinct list CPU
+`service.usecases.batch`); the CPU figures include the helper's, so on the distinct list CPU
 exceeds wall time: that is the second core at work.
 """
 from __future__ import annotations
@@ -114,7 +114,8 @@ def _figures(samples: list[tuple[float, float]]) -> str:
 
 
 def bench_endpoint(text: str, repeat: int) -> list[tuple[float, float]]:
-    from service import create_app, db
+    from service.web import create_app
+    from service.store import db
 
     with tempfile.TemporaryDirectory() as directory:
         url = f"sqlite:///{directory}/bench.db"
@@ -125,7 +126,7 @@ def bench_endpoint(text: str, repeat: int) -> list[tuple[float, float]]:
         samples = []
         for _ in range(repeat + 1):
             # CPU counts the helper process a long list of distinct lines is split with
-            # (service.batch), reaped before the response is returned.
+            # (service.usecases.batch), reaped before the response is returned.
             start, cpu_start = time.perf_counter(), time.process_time() + _children_cpu()
             response = client.post("/v1/fit-checks/batch", data=body, content_type="text/csv")
             response.get_data()

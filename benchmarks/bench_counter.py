@@ -98,9 +98,10 @@ def designs(rng: random.Random, count: int) -> list[dict]:
 def build_database(path: Path, plugs: int, design_count: int, seed: int) -> None:
     from sqlalchemy import insert
 
-    from service import create_app, db
-    from service import seed as seeding
-    from service.models import Head, Plug
+    from service.web import create_app
+    from service.store import db
+    from service.usecases import seeding
+    from service.store.models import Head, Plug
 
     url = f"sqlite:///{path}"
     db.upgrade(url)
@@ -206,13 +207,15 @@ def time_requests(port: int, path: str, count: int) -> tuple[list[float], dict, 
 def search_figures(database: Path, head_id: str) -> dict:
     """What the search did for a head's first page, run in-process (for the printout)."""
     from schemas.specs import options_from, port_spec
-    from service import counter, create_app, db, repository
+    from service.usecases import parts_search
+    from service.web import create_app
+    from service.store import db, repository
     from service.catalog_loader import load_catalog
 
     app = create_app({"DATABASE_URL": f"sqlite:///{database}"})
     with db.unit_of_work(app) as session:
         port = port_spec(repository.heads(session).document(head_id))
-        page = counter.fitting_plugs(session, port, options_from({}), load_catalog())
+        page = parts_search.fitting_plugs(session, port, options_from({}), load_catalog())
     db.get_database(app).engine.dispose()
     return {"candidates": page.plugs, "designs": page.designs, "checked": page.checked}
 

@@ -46,7 +46,7 @@ LOOPBACK = "127.0.0.1"
 MIN_CHECK_TO_HEALTH_RATIO = 0.70
 MAX_P99_MS = 50.0
 
-# The flush example of the OpenAPI document (service/api/examples.py, FIT_CHECK_INLINE):
+# The flush example of the OpenAPI document (service/web/examples.py, FIT_CHECK_INLINE):
 # M14x1.25 flat seat, 19 mm reach on a 1.5 mm gasket in a 17.5 mm port, so the plug's
 # thread ends level with the chamber (19 - 1.5 - 17.5 = 0). Kept literal here so the
 # script also drives a server built from another checkout.

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from alembic import context
 
-from service.models import Base
+from service.store.models import Base
 
 config = context.config
 target_metadata = Base.metadata
@@ -18,7 +18,7 @@ def _database_url() -> str:
     url = config.attributes.get("database_url")
     if url:
         return url
-    from service import create_app
+    from service.web import create_app
 
     return create_app().config["DATABASE_URL"]
 
@@ -38,7 +38,7 @@ def run_migrations_offline() -> None:
 
 
 def run_migrations_online() -> None:
-    from service.db import make_engine
+    from service.store.db import make_engine
 
     url = _database_url()
     engine = make_engine(url)

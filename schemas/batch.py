@@ -2,7 +2,7 @@
 
 A build list is checked item by item: one bad item must not spoil the others, so the
 request schema loads only the envelope (`ItemList` keeps the items raw) and
-`service.batch` loads each item through `BatchItemSchema`'s parts. The OpenAPI
+`service.usecases.batch` loads each item through `BatchItemSchema`'s parts. The OpenAPI
 document still shows the full item structure, because `ItemList` documents its inner
 schema like any other list.
 """
@@ -96,7 +96,7 @@ class BatchItemSchema(Schema):
 
 class ItemList(fields.List):
     """A list documented as a list of its inner schema but loaded as raw items, so each
-    item can be loaded, and fail, on its own (see `service.batch`)."""
+    item can be loaded, and fail, on its own (see `service.usecases.batch`)."""
 
     def _deserialize(self, value: Any, attr: str | None, data: Any, **kwargs: Any) -> list:
         if not isinstance(value, list):

@@ -1,7 +1,7 @@
 """Query strings and answers of the inventory exchange (imports and exports).
 
 The rows themselves are validated by `schemas.specs.StoredPlugSchema` and
-`StoredHeadSchema` (see `service.inventory`); this module only describes the envelope.
+`StoredHeadSchema` (see `service.formats.stock_file`); this module only describes the envelope.
 """
 from __future__ import annotations
 

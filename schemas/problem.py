@@ -1,6 +1,6 @@
 """The error document (RFC 9457 problem details) every 4xx and 5xx answer carries.
 
-The handler in `service.problems` builds its payload with `ProblemSchema().dump`, so the
+The handler in `service.web.problems` builds its payload with `ProblemSchema().dump`, so the
 document the OpenAPI file promises and the one a client receives cannot drift apart.
 """
 from __future__ import annotations

@@ -130,7 +130,7 @@ def result_document(result: FitResult, system: str = "metric", shared: dict | No
     `shared`, when given, is an intern table for one batch: the parts that repeat from
     result to result (findings without values such as NOT_CHECKED, the torque guide,
     the assumptions and cautions) are then one read-only object each, built once and,
-    by `service.batch`, written as JSON once. Callers must not mutate the document.
+    by `service.usecases.batch`, written as JSON once. Callers must not mutate the document.
     """
     if shared is None:
         shared = {}

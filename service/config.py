@@ -35,7 +35,7 @@ class Defaults:
     # Python logging level name for the service's own log lines.
     LOG_LEVEL: str = "INFO"
 
-    # The server (`plugfit serve`, gunicorn); see service/serving.py for the worker model.
+    # The server (`plugfit serve`, gunicorn); see service/web/serving.py for the worker model.
     # Address and port to listen on.
     BIND: str = "127.0.0.1:8000"
     # Worker processes; 0 (the default) means one per CPU core, plus one.

@@ -22,8 +22,9 @@ from click.testing import CliRunner, Result
 from flask import Flask
 from flask.testing import FlaskClient
 
-from service import create_app, db
-from service.auth import create_key
+from service.web import create_app
+from service.store import db
+from service.web.auth import create_key
 from tests import postgres
 
 

@@ -269,7 +269,7 @@ def generate_plugs(rng: random.Random, count: int = 300) -> list[dict[str, Any]]
 
 def main() -> None:
     from schemas.specs import StoredHeadSchema, StoredPlugSchema
-    from service.inventory import head_format, plug_format, write_csv
+    from service.formats.stock_file import head_format, plug_format, write_csv
 
     rng = random.Random(SEED)
     heads = StoredHeadSchema(many=True).load(sorted(HEADS, key=lambda head: head["head_id"]))

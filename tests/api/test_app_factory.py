@@ -7,7 +7,8 @@ from pathlib import Path
 
 import pytest
 
-from service import create_app, db
+from service.web import create_app
+from service.store import db
 from service.config import MIB, SettingError, from_environment, load_settings
 
 REPO = Path(__file__).resolve().parents[2]

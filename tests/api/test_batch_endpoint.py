@@ -6,7 +6,8 @@ import pytest
 from sqlalchemy import event
 
 from schemas.batch import BatchResponseSchema
-from service import create_app, db
+from service.web import create_app
+from service.store import db
 
 URL = "/v1/fit-checks/batch"
 # The contract's flush fit (fit-check-contract.md, "Geometry"): protrusion 19.0 − 1.5 −
@@ -173,7 +174,7 @@ def test_the_openapi_document_shows_the_json_and_csv_bodies_and_the_answer(clien
 
 
 def test_a_list_split_over_two_processes_answers_exactly_as_one_checked_in_one(client, monkeypatch):
-    from service import batch
+    from service.usecases import batch
 
     # Reaches of 0.74803 in (19.0 mm, the contract's flush fit; 1 in = 25.4 mm, NIST SP
     # 811, B.8), 0.75 in (19.05 mm) and "abc" (no length): every third line is invalid.

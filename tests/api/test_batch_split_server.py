@@ -8,8 +8,8 @@ from pathlib import Path
 import pytest
 import requests
 
-from service import batch
-from service.buildlist import read_csv
+from service.usecases import batch
+from service.formats.build_list import read_csv
 from service.catalog_loader import load_catalog
 from tests.live_server import running_server
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 import json
 
 from schemas.problem import PROBLEM_MEDIA_TYPE
-from service import seed
+from service.usecases import seeding
 
 CSV = {"Content-Type": "text/csv"}
 FILE = ("sku,thread,seat,reach_mm,reach_plus_mm,reach_minus_mm,firing_end_mm,hex_mm,resistor,quantity_on_hand,location\n"
@@ -112,6 +112,6 @@ def test_another_content_type_is_a_415_and_a_bad_header_a_422(client, auth):
 
 def test_the_demo_files_import_through_the_api(client, auth):
     for resource in ("plugs", "heads"):
-        body = (seed.DEMO_DIRECTORY / f"{resource}.csv").read_bytes()
+        body = (seeding.DEMO_DIRECTORY / f"{resource}.csv").read_bytes()
         report = post(client, auth, resource, body).get_json()
         assert report["added"] == report["rows"] > 0

@@ -9,7 +9,8 @@ import pytest
 import requests
 
 from schemas.problem import PROBLEM_MEDIA_TYPE
-from service import config, create_app
+from service import config
+from service.web import create_app
 from tests.live_server import running_server
 
 MIB = 1024 * 1024

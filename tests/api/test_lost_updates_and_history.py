@@ -7,8 +7,9 @@ import pytest
 from sqlalchemy import text
 from sqlalchemy.exc import DatabaseError
 
-from service import create_app, db, repository
-from service.auth import create_key
+from service.web import create_app
+from service.store import db, repository
+from service.web.auth import create_key
 from tests.api.problems import problem
 
 PLUG = {"sku": "LU-14F-19", "thread": "M14x1.25", "seat": "flat", "reach": 19.0, "gasket_thickness": 1.5,

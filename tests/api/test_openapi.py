@@ -94,7 +94,7 @@ def test_the_documented_examples_are_valid_requests_and_answers():
     requests, so the documentation cannot show a body the service would refuse."""
     from schemas.results import FitResultSchema
     from schemas.specs import FitCheckRequestSchema, StoredHeadSchema, StoredPlugSchema
-    from service.api import examples
+    from service.web import examples
 
     StoredPlugSchema().load(examples.PLUG)
     StoredHeadSchema().load(examples.HEAD)

@@ -228,7 +228,8 @@ def test_a_page_size_over_1000_is_a_422(client):
 
 
 def test_the_operator_may_lower_the_page_size_limit(database_url):
-    from service import create_app, db
+    from service.web import create_app
+    from service.store import db
 
     app = create_app({"TESTING": True, "DATABASE_URL": database_url, "MAX_PAGE_SIZE": 20})
     try:

@@ -6,7 +6,8 @@ import json
 import pytest
 
 from schemas.problem import PROBLEM_MEDIA_TYPE
-from service import create_app, db
+from service.web import create_app
+from service.store import db
 from tests.api.openapi_validation import resolve, response_schema, violations
 
 
@@ -133,7 +134,7 @@ def test_a_page_number_past_any_database_offset_is_a_422_naming_page(client):
 def test_a_busy_or_unreachable_database_is_a_503_problem_with_retry_after(app, monkeypatch):
     from sqlalchemy.exc import OperationalError
 
-    from service import repository
+    from service.store import repository
 
     def locked(*args, **kwargs):
         raise OperationalError("SELECT", {}, Exception("database is locked"))

@@ -9,9 +9,9 @@ from sqlalchemy.exc import OperationalError
 
 from schemas.problem import PROBLEM_MEDIA_TYPE
 from schemas.standard_sizes import StandardSizesSchema
-from service import db
+from service.store import db
 from service.catalog_loader import load_catalog
-from service.logging import REQUEST_LOGGER, JsonLineFormatter
+from service.web.request_log import REQUEST_LOGGER, JsonLineFormatter
 
 
 def test_health_reports_the_service_and_its_database(client):

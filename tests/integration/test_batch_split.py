@@ -10,9 +10,9 @@ import time
 
 import pytest
 
-from service import batch
-from service.batch import run_batch
-from service.buildlist import read_csv, read_json_document
+from service.usecases import batch
+from service.usecases.batch import run_batch
+from service.formats.build_list import read_csv, read_json_document
 from service.catalog_loader import load_catalog
 
 # The contract's flush fit (fit-check-contract.md, "Geometry"): 19.0 − 1.5 = 17.5 mm =

@@ -1,7 +1,7 @@
 """Many writers at once, as several server processes with several threads each would be:
 no write may be lost or half-done (a record without its history entry, or the reverse).
 
-SQLite serialises writers; WAL and the busy timeout (service/db.py) make a second writer
+SQLite serialises writers; WAL and the busy timeout (service/store/db.py) make a second writer
 wait its turn instead of failing. PostgreSQL (PLUGFIT_TEST_POSTGRES_URL) runs the same
 tests. Each process builds its own app after the fork, as gunicorn's workers do.
 """
@@ -14,8 +14,9 @@ from collections import Counter
 import pytest
 from sqlalchemy import func, select
 
-from service import create_app, db
-from service.models import ChangeRecord, Plug
+from service.web import create_app
+from service.store import db
+from service.store.models import ChangeRecord, Plug
 
 PROCESSES = 4
 THREADS = 4

@@ -7,12 +7,13 @@ import pytest
 from sqlalchemy import insert, select
 
 from schemas.specs import options_from, plug_spec, port_spec
-from service import counter, db, repository, seed
+from service.usecases import parts_search, seeding
+from service.store import db, repository
 from service.catalog_loader import load_catalog
 from service.fitment import check_fit
 from service.fitment.counter import GROUP, result_rank_key
 from service.fitment.interchange import Tolerances, compare
-from service.models import Head, Plug
+from service.store.models import Head, Plug
 
 # Odd plugs the demo shop lacks: no firing end, no reach, no gasket given, a hex that is
 # no catalogue size, tolerances wide enough to straddle every bound. Invented.
@@ -45,13 +46,13 @@ def shop(tmp_path_factory, migrated_template):
     """The demo shop plus the odd plugs, in one database for the whole module."""
     import shutil
 
-    from service import create_app
+    from service.web import create_app
 
     path = tmp_path_factory.mktemp("counter") / "plugfit.db"
     shutil.copyfile(migrated_template, path)
     app = create_app({"TESTING": True, "DATABASE_URL": f"sqlite:///{path}"})
     with db.unit_of_work(app) as session:
-        seed.seed_demo(session)
+        seeding.seed_demo(session)
         session.execute(insert(Plug), odd_plugs(random.Random(20250614), 400))
         session.commit()
     with db.unit_of_work(app) as session:
@@ -79,7 +80,7 @@ def searched(app, head, options, page_size=37, **kwargs):
     with db.unit_of_work(app) as session:
         offset = 0
         while True:
-            page = counter.fitting_plugs(session, port_spec(head), options, load_catalog(), offset=offset,
+            page = parts_search.fitting_plugs(session, port_spec(head), options, load_catalog(), offset=offset,
                                          limit=page_size, **kwargs)
             total = page.total if total is None else total
             assert page.total == total  # every page agrees on the total
@@ -117,7 +118,7 @@ def test_the_filters_restrict_to_stock_resistor_and_hex(shop):
     app, plugs, heads = shop
     options = options_from({})
     head = next(h for h in heads if h["head_id"] == "DEMO-H-PELLORIN-16")
-    filters = counter.PlugFilters(in_stock=True, resistor=True, hex_mm=16.0)
+    filters = parts_search.PlugFilters(in_stock=True, resistor=True, hex_mm=16.0)
     listed, _total = searched(app, head, options, filters=filters, page_size=11)
     keep = (lambda plug: plug["quantity_on_hand"] > 0 and plug.get("resistor") is True
             and plug.get("hex") is not None and abs(plug["hex"] - 16.0) <= 0.3)
@@ -148,7 +149,7 @@ def test_interchanges_equal_a_brute_force_comparison(shop):
         with db.unit_of_work(app) as session:
             offset = 0
             while True:
-                page = counter.interchanges(session, spec, original["sku"], catalog, offset=offset, limit=7)
+                page = parts_search.interchanges(session, spec, original["sku"], catalog, offset=offset, limit=7)
                 assert page.total == len(expected)
                 listed += [item.sku for item in page.items]
                 if len(page.items) < 7:

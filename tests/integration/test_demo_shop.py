@@ -7,10 +7,11 @@ import pytest
 from sqlalchemy import func, select
 
 from schemas.specs import options_from, plug_spec, port_spec
-from service import db, repository, seed
+from service.store import db, repository
+from service.usecases import seeding
 from service.catalog_loader import load_catalog
 from service.fitment import check_fit
-from service.models import Head, Plug
+from service.store.models import Head, Plug
 
 # The stable finding codes: the fit-check contract's table
 # (shared/product/fit-check-contract.md, "Finding codes") plus the four deeper checks of
@@ -28,7 +29,7 @@ OVER_TORQUE = options_from({"torque": 45.0})
 @pytest.fixture
 def demo_shop(app):
     with db.unit_of_work(app) as session:
-        seed.seed_demo(session)
+        seeding.seed_demo(session)
         session.commit()
     with db.unit_of_work(app) as session:
         plugs = [repository.PLUGS.document_of(row) for row in session.scalars(select(Plug).order_by(Plug.sku))]
@@ -52,7 +53,7 @@ def test_every_name_in_the_demo_shop_is_marked_as_demo_data(demo_shop):
     assert all(head["head_id"].startswith("DEMO-H-") and head["description"].startswith("Demo engine:")
                for head in heads)
     for name in ("plugs.csv", "heads.csv"):
-        assert (seed.DEMO_DIRECTORY / name).read_text(encoding="utf-8").startswith("# DEMO DATA")
+        assert (seeding.DEMO_DIRECTORY / name).read_text(encoding="utf-8").startswith("# DEMO DATA")
 
 
 def test_every_finding_code_appears_in_some_check_over_the_demo_shop(demo_shop):
@@ -80,7 +81,7 @@ def test_the_featured_plug_passes_clean_in_its_demo_engine(demo_shop):
 def test_seeding_the_demo_shop_again_changes_nothing(app, demo_shop):
     with db.unit_of_work(app) as session:
         before = sorted(session.execute(select(Plug.sku, Plug.version)).all())
-        report = seed.seed_demo(session)
+        report = seeding.seed_demo(session)
         session.commit()
     assert (report.added, report.changed) == (0, 0)
     with db.unit_of_work(app) as session:
@@ -94,4 +95,4 @@ def test_the_generator_writes_the_committed_files_byte_for_byte(tmp_path, monkey
     monkeypatch.setattr(generate, "HERE", tmp_path)
     generate.main()
     for name in ("plugs.csv", "heads.csv"):
-        assert (tmp_path / name).read_bytes() == (seed.DEMO_DIRECTORY / name).read_bytes()
+        assert (tmp_path / name).read_bytes() == (seeding.DEMO_DIRECTORY / name).read_bytes()

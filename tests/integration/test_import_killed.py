@@ -24,8 +24,8 @@ from sqlalchemy.engine import make_url
 from sqlalchemy.orm import Session
 from sqlalchemy.pool import NullPool
 
-from service import db
-from service.models import ChangeRecord, Plug
+from service.store import db
+from service.store.models import ChangeRecord, Plug
 
 REPO = Path(__file__).resolve().parents[2]
 HEADER = "sku,thread,seat,reach_mm,firing_end_mm,hex_mm,quantity_on_hand,location\n"

@@ -1,4 +1,4 @@
-"""Imports into and exports out of a migrated SQLite database (service.imports)."""
+"""Imports into and exports out of a migrated SQLite database (service.usecases.stock)."""
 from __future__ import annotations
 
 import io
@@ -6,14 +6,16 @@ import io
 import pytest
 from sqlalchemy import select
 
-from service import db, imports, inventory, seed
-from service.models import Plug
+from service.store import db
+from service.usecases import seeding, stock
+from service.formats import stock_file
+from service.store.models import Plug
 
-PLUGS = inventory.plug_format()
+PLUGS = stock_file.plug_format()
 
 
 def documents(text: str, fmt=PLUGS) -> list[dict]:
-    outcome = inventory.validate(inventory.read_csv(text, fmt), fmt, csv_columns=True)
+    outcome = stock_file.validate(stock_file.read_csv(text, fmt), fmt, csv_columns=True)
     assert outcome.ok, outcome.errors
     return [document for _line, document in outcome.documents]
 
@@ -24,9 +26,9 @@ FILE = ("sku,thread,seat,reach_mm,reach_plus_mm,reach_minus_mm,hex_mm,quantity_o
         "A-3,M12x1.25,flat,26.5,,,14,2,B-07\n")
 
 
-def import_text(app, text: str, mode: str = "upsert", fmt=PLUGS) -> imports.ImportReport:
+def import_text(app, text: str, mode: str = "upsert", fmt=PLUGS) -> stock.ImportReport:
     with db.unit_of_work(app) as session:
-        report = imports.apply_import(session, fmt.resource, documents(text, fmt), mode)
+        report = stock.apply_import(session, fmt.resource, documents(text, fmt), mode)
         session.commit()
     return report
 
@@ -34,7 +36,7 @@ def import_text(app, text: str, mode: str = "upsert", fmt=PLUGS) -> imports.Impo
 def export_text(app, resource: str = "plugs") -> str:
     out = io.StringIO()
     with db.unit_of_work(app) as session:
-        inventory.write_csv(imports.export_documents(session, resource), inventory.format_for(resource), out)
+        stock_file.write_csv(stock.export_documents(session, resource), stock_file.format_for(resource), out)
     return out.getvalue()
 
 
@@ -77,12 +79,12 @@ def test_an_upsert_leaves_lines_the_file_does_not_name_but_replace_deletes_them(
 
 def test_the_demo_shop_exports_and_imports_back_unchanged(app):
     with db.unit_of_work(app) as session:
-        seed.seed_demo(session)
+        seeding.seed_demo(session)
         session.commit()
     for resource in ("plugs", "heads"):
         exported = export_text(app, resource)
         before = stored(app)
-        report = import_text(app, exported, "replace", inventory.format_for(resource))
+        report = import_text(app, exported, "replace", stock_file.format_for(resource))
         assert report.changed == report.added == report.deleted == 0
         assert report.unchanged == report.rows > 0
         assert export_text(app, resource) == exported
@@ -92,10 +94,10 @@ def test_the_demo_shop_exports_and_imports_back_unchanged(app):
 def test_the_demo_files_are_exactly_what_an_export_of_the_seeded_shop_writes(app):
     """The committed files are in the exchange format, byte for byte (after the comments)."""
     with db.unit_of_work(app) as session:
-        seed.seed_demo(session)
+        seeding.seed_demo(session)
         session.commit()
     for resource in ("plugs", "heads"):
-        committed = (seed.DEMO_DIRECTORY / f"{resource}.csv").read_text(encoding="utf-8")
+        committed = (seeding.DEMO_DIRECTORY / f"{resource}.csv").read_text(encoding="utf-8")
         body = "".join(line for line in committed.splitlines(keepends=True) if not line.startswith("#"))
         assert export_text(app, resource) == body
 

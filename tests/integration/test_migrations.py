@@ -7,8 +7,8 @@ from alembic.migration import MigrationContext
 from alembic.script import ScriptDirectory
 from sqlalchemy import inspect, text
 
-from service import db
-from service.models import Base
+from service.store import db
+from service.store.models import Base
 
 
 def head_revision() -> str:

@@ -7,9 +7,10 @@ import pytest
 from sqlalchemy import func, select
 
 from schemas.specs import StoredHeadSchema, StoredPlugSchema
-from service import db, repository, seed
+from service.store import db, repository
+from service.usecases import seeding
 from service.fitment.model import Dim
-from service.models import Head, Plug
+from service.store.models import Head, Plug
 
 DEMO_PLUGS = [
     {"sku": "DEMO-1", "description": "demo data (invented)", "thread": "M14x1.25", "seat": "flat",
@@ -39,12 +40,12 @@ def versions(app):
 
 def test_seeding_the_demo_shop_twice_changes_nothing_the_second_time(app, demo_directory):
     with db.unit_of_work(app) as session:
-        first = seed.seed_demo(session, demo_directory)
+        first = seeding.seed_demo(session, demo_directory)
         session.commit()
     assert (first.added, first.changed, first.unchanged) == (3, 0, 0)
     before = versions(app)
     with db.unit_of_work(app) as session:
-        second = seed.seed_demo(session, demo_directory)
+        second = seeding.seed_demo(session, demo_directory)
         session.commit()
     assert (second.added, second.changed, second.unchanged) == (0, 0, 3)
     assert versions(app) == before
@@ -52,12 +53,12 @@ def test_seeding_the_demo_shop_twice_changes_nothing_the_second_time(app, demo_d
 
 def test_a_changed_demo_record_is_replaced_in_place(app, demo_directory):
     with db.unit_of_work(app) as session:
-        seed.seed_demo(session, demo_directory)
+        seeding.seed_demo(session, demo_directory)
         session.commit()
     changed = [{**DEMO_PLUGS[0], "hex": 20.8}, DEMO_PLUGS[1]]
     (demo_directory / "plugs.jsonl").write_text("\n".join(json.dumps(p) for p in changed))
     with db.unit_of_work(app) as session:
-        report = seed.seed_demo(session, demo_directory)
+        report = seeding.seed_demo(session, demo_directory)
         session.commit()
     assert (report.added, report.changed, report.unchanged) == (0, 1, 2)
     with db.unit_of_work(app) as session:
@@ -68,8 +69,8 @@ def test_a_changed_demo_record_is_replaced_in_place(app, demo_directory):
 def test_a_bad_demo_line_stops_the_seed_and_writes_nothing(app, demo_directory):
     (demo_directory / "heads.jsonl").write_text(json.dumps({**DEMO_HEADS[0], "port_depth": "3 kg"}) + "\n")
     with db.unit_of_work(app) as session:
-        with pytest.raises(seed.SeedError, match="heads.jsonl line 1"):
-            seed.seed_demo(session, demo_directory)
+        with pytest.raises(seeding.SeedError, match="heads.jsonl line 1"):
+            seeding.seed_demo(session, demo_directory)
     with db.unit_of_work(app) as session:
         assert session.scalar(select(func.count()).select_from(Plug)) == 0
 
@@ -83,14 +84,14 @@ def test_plugfit_seed_is_idempotent_and_says_where_standard_sizes_live(runner):
 
 
 def test_plugfit_seed_demo_without_demo_files_loads_nothing_and_says_so(runner, monkeypatch, tmp_path):
-    monkeypatch.setattr(seed, "DEMO_DIRECTORY", tmp_path / "empty")
+    monkeypatch.setattr(seeding, "DEMO_DIRECTORY", tmp_path / "empty")
     result = runner.invoke("seed", "--demo")
     assert result.exit_code == 0
     assert "nothing loaded" in result.stderr
 
 
 def test_plugfit_seed_demo_loads_the_demo_shop_once(runner, monkeypatch, demo_directory):
-    monkeypatch.setattr(seed, "DEMO_DIRECTORY", demo_directory)
+    monkeypatch.setattr(seeding, "DEMO_DIRECTORY", demo_directory)
     first = runner.invoke("seed", "--demo")
     assert first.exit_code == 0, first.output
     assert "3 added, 0 changed, 0 unchanged" in first.stderr

@@ -240,9 +240,9 @@ def test_plugfit_check_reads_a_request_file_and_resolves_references_from_an_inve
 def test_a_long_list_checked_by_the_installed_command_over_two_processes_reads_as_in_one(runner, tmp_path,
                                                                                            monkeypatch):
     """2,400 lines: long enough for `plugfit validate` to check half in a helper process
-    (service.batch.MIN_ITEMS_TO_SPLIT); its JSON must equal a run in one process."""
-    from service import batch
-    from service.buildlist import read_csv
+    (service.usecases.batch.MIN_ITEMS_TO_SPLIT); its JSON must equal a run in one process."""
+    from service.usecases import batch
+    from service.formats.build_list import read_csv
 
     assert batch.MIN_ITEMS_TO_SPLIT <= 2400
     # FLUSH, LONG_ROOMY and HITS_PISTON with every plug and head a few micrometres

@@ -5,7 +5,7 @@ import pytest
 
 from schemas.specs import FitCheckRequestSchema
 from service.catalog_loader import load_catalog
-from service.checking import run_check
+from service.usecases.fit_check import run_check
 
 
 @pytest.fixture(scope="session")

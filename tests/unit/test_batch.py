@@ -11,8 +11,8 @@ from marshmallow import ValidationError
 
 from schemas.batch import BatchResponseSchema
 from schemas.specs import HeadInputSchema, OptionsSchema, PlugInputSchema, StoredHeadSchema, StoredPlugSchema
-from service.batch import _schema_for, run_batch
-from service.buildlist import BuildListError, read_csv, read_json_document
+from service.usecases.batch import _schema_for, run_batch
+from service.formats.build_list import BuildListError, read_csv, read_json_document
 
 # The contract's flush fit (fit-check-contract.md, "Geometry"): thread end e = 19.0 − 1.5
 # = 17.5 mm = port depth, so the protrusion is 0.0 mm; tip t = 17.5 + 4.0 = 21.5 mm;
@@ -220,7 +220,7 @@ def test_no_csv_build_list_makes_the_batch_fail_other_than_as_a_whole_file_probl
 def test_the_collector_is_paused_during_a_batch_and_back_on_after_even_when_nested_or_failing():
     import gc
 
-    from service.batch import collector_paused
+    from service.usecases.batch import collector_paused
 
     assert gc.isenabled()
     with pytest.raises(RuntimeError):
@@ -235,7 +235,7 @@ def test_the_collector_is_paused_during_a_batch_and_back_on_after_even_when_nest
 def test_a_collector_that_was_off_stays_off_after_a_batch():
     import gc
 
-    from service.batch import collector_paused
+    from service.usecases.batch import collector_paused
 
     gc.disable()
     try:

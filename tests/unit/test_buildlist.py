@@ -6,7 +6,7 @@ import json
 
 import pytest
 
-from service.buildlist import (BuildListError, NotJson, TooManyItems, decode, errors_by_column, field_specs,
+from service.formats.build_list import (BuildListError, NotJson, TooManyItems, decode, errors_by_column, field_specs,
                                item_from_cells, read_build_list, read_csv, read_json_text)
 
 HEADER = "ref,plug_thread,plug_seat,plug_reach_mm,head_thread,head_seat,head_port_depth_mm\n"

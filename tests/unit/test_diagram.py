@@ -10,7 +10,7 @@ import xml.etree.ElementTree as ET
 import cairosvg
 import pytest
 
-from service.diagram import render_fit_svg
+from service.formats.drawing import render_fit_svg
 from service.fitment import check_fit
 from service.fitment.catalog import Catalog, ThreadSize
 from service.fitment.model import Dim, Options, PlugSpec, PortSpec

@@ -1,19 +1,19 @@
-"""The inventory exchange format (service.inventory): columns, reading, writing. No I/O."""
+"""The inventory exchange format (service.formats.stock_file): columns, reading, writing. No I/O."""
 from __future__ import annotations
 
 import io
 
 import pytest
 
-from service import inventory
+from service.formats import stock_file
 from service.fitment.model import Dim
 
-PLUGS = inventory.plug_format()
-HEADS = inventory.head_format()
+PLUGS = stock_file.plug_format()
+HEADS = stock_file.head_format()
 
 
-def load_csv(text: str, fmt=PLUGS) -> inventory.Validated:
-    return inventory.validate(inventory.read_csv(text, fmt), fmt, csv_columns=True)
+def load_csv(text: str, fmt=PLUGS) -> stock_file.Validated:
+    return stock_file.validate(stock_file.read_csv(text, fmt), fmt, csv_columns=True)
 
 
 def test_every_length_gets_a_value_column_and_two_tolerance_columns_beside_it():
@@ -86,13 +86,13 @@ def test_a_nested_member_error_names_its_own_column():
 
 
 def test_an_unknown_or_repeated_column_makes_the_file_unusable():
-    with pytest.raises(inventory.FileUnusable) as caught:
-        list(inventory.read_csv("sku,thread,seat,reach\nA,M14x1.25,flat,19\n", PLUGS))
+    with pytest.raises(stock_file.FileUnusable) as caught:
+        list(stock_file.read_csv("sku,thread,seat,reach\nA,M14x1.25,flat,19\n", PLUGS))
     assert caught.value.errors == {"header": ["unknown column 'reach'"]}
-    with pytest.raises(inventory.FileUnusable):
-        list(inventory.read_csv("sku,sku\nA,B\n", PLUGS))
-    with pytest.raises(inventory.FileUnusable):
-        list(inventory.read_csv("# only a comment\n", PLUGS))
+    with pytest.raises(stock_file.FileUnusable):
+        list(stock_file.read_csv("sku,sku\nA,B\n", PLUGS))
+    with pytest.raises(stock_file.FileUnusable):
+        list(stock_file.read_csv("# only a comment\n", PLUGS))
 
 
 def test_a_row_with_more_cells_than_the_header_is_a_bad_row():
@@ -106,7 +106,7 @@ def test_a_quoted_cell_over_two_lines_keeps_the_line_numbers_of_later_rows_right
 
 
 def test_json_lines_errors_mirror_the_record_fields():
-    outcome = inventory.parse(b'{"sku": "A", "thread": "M14x1.25", "seat": "flat", "reach": "3 kg"}\n\n[1]\n{',
+    outcome = stock_file.parse(b'{"sku": "A", "thread": "M14x1.25", "seat": "flat", "reach": "3 kg"}\n\n[1]\n{',
                               "application/x-ndjson", PLUGS)
     assert set(outcome.errors) == {"1", "3", "4"}
     assert "reach" in outcome.errors["1"]
@@ -114,15 +114,15 @@ def test_json_lines_errors_mirror_the_record_fields():
 
 
 def test_a_file_that_is_not_utf8_is_unusable():
-    with pytest.raises(inventory.FileUnusable):
-        inventory.parse(b"sku\n\xff\n", "text/csv", PLUGS)
+    with pytest.raises(stock_file.FileUnusable):
+        stock_file.parse(b"sku\n\xff\n", "text/csv", PLUGS)
 
 
 @pytest.mark.parametrize("value, text", [(19.0, "19"), (0.1, "0.1"), (15.875, "15.875"), (1e-05, "1e-05"),
                                          (308.15, "308.15"), (1 / 3, repr(1 / 3))])
 def test_numbers_are_written_in_the_shortest_form_that_reads_back_as_the_same_float(value, text):
-    assert inventory.format_number(value) == text
-    assert float(inventory.format_number(value)) == value
+    assert stock_file.format_number(value) == text
+    assert float(stock_file.format_number(value)) == value
 
 
 def test_writing_then_reading_gives_back_the_same_documents():
@@ -135,22 +135,22 @@ def test_writing_then_reading_gives_back_the_same_documents():
     first = load_csv(text)
     assert first.ok, first.errors
     out = io.StringIO()
-    inventory.write_csv([document for _line, document in first.documents], PLUGS, out)
+    stock_file.write_csv([document for _line, document in first.documents], PLUGS, out)
     second = load_csv(out.getvalue())
     assert [d for _l, d in second.documents] == [d for _l, d in first.documents]
     # and writing again gives the same text
     again = io.StringIO()
-    inventory.write_csv([document for _line, document in second.documents], PLUGS, again)
+    stock_file.write_csv([document for _line, document in second.documents], PLUGS, again)
     assert again.getvalue() == out.getvalue()
 
 
 def test_comments_are_written_before_the_header_and_skipped_when_read():
     out = io.StringIO()
-    inventory.write_csv([], PLUGS, out, comments=["DEMO DATA"])
+    stock_file.write_csv([], PLUGS, out, comments=["DEMO DATA"])
     assert out.getvalue().startswith("# DEMO DATA\nsku,")
     assert load_csv(out.getvalue()).documents == []
 
 
 def test_the_file_name_chooses_between_csv_and_json_lines():
-    assert inventory.media_type_of("stock.CSV") == "text/csv"
-    assert inventory.media_type_of("stock.jsonl") in inventory.JSON_LINES_MEDIA_TYPES
+    assert stock_file.media_type_of("stock.CSV") == "text/csv"
+    assert stock_file.media_type_of("stock.jsonl") in stock_file.JSON_LINES_MEDIA_TYPES

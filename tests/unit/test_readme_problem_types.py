@@ -5,7 +5,7 @@ from __future__ import annotations
 import re
 from pathlib import Path
 
-from service.problems import TYPES_BY_STATUS
+from service.web.problems import TYPES_BY_STATUS
 
 REPO = Path(__file__).resolve().parents[2]
 

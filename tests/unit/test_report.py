@@ -5,9 +5,9 @@ import xml.etree.ElementTree as ET
 
 import pytest
 
-from service.batch import run_batch
-from service.buildlist import read_csv
-from service.report import error_lines, exit_code, junit_report, result_text, text_report
+from service.usecases.batch import run_batch
+from service.formats.build_list import read_csv
+from service.formats.reports import error_lines, exit_code, junit_report, result_text, text_report
 
 # Contract geometry (fit-check-contract.md): 19.0 reach, 1.5 gasket, 17.5 port depth →
 # flush; 26.5 reach → 7.5 mm protrusion (REACH_LONG, warn); 8.0 mm piston clearance
@@ -103,7 +103,7 @@ def test_one_result_reads_with_its_verdict_findings_and_geometry(answer):
 @pytest.mark.parametrize("lines", [[0], [0, 1], [0, 4], [3], [2], [0, 1, 2, 3, 4]])
 @pytest.mark.parametrize("fail_on", ["fail", "warn"])
 def test_the_exit_code_from_the_summary_equals_the_one_from_the_results(catalog, lines, fail_on):
-    from service.report import summary_exit_code
+    from service.formats.reports import summary_exit_code
 
     rows = BUILD_LIST.splitlines(keepends=True)
     answer = run_batch(read_csv(rows[0] + "".join(rows[1 + line] for line in lines)), catalog).as_dict()

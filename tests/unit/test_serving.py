@@ -3,7 +3,8 @@ from __future__ import annotations
 
 import pytest
 
-from service import config, serving
+from service import config
+from service.web import serving
 
 
 def test_without_variables_the_server_listens_on_loopback_port_8000_with_a_sync_worker_per_core_and_one(monkeypatch):

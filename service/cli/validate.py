@@ -1,0 +1,166 @@
+"""`plugfit validate BUILD_LIST`: check a whole build list, for people and for CI.
+
+Embedded by default (the engine and the seeded catalogue in this process, no server),
+or `--server URL` to have a running service check it. Exit codes, which CI relies on:
+
+    0  no line fails
+    1  a line fails (or warns, with --fail-on warn) or cannot be read
+    2  the file as a whole is unusable, or the command line is wrong
+    3  the server cannot be reached (or did not answer as a plugfit service)
+"""
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+from typing import Any
+
+import click
+
+EXIT_OK, EXIT_LINES_FAIL, EXIT_UNUSABLE, EXIT_UNREACHABLE = 0, 1, 2, 3
+
+
+def parse_checks(ctx: click.Context | None, param: click.Parameter | None, value: str | None) -> list[str]:
+    """`piston,valve` as a list of check names; unknown names are a usage error (exit 2)."""
+    from service.fitment.checks import CHECK_NAMES
+
+    names = [part.strip() for part in (value or "").replace(";", ",").split(",") if part.strip()]
+    unknown = [name for name in names if name not in CHECK_NAMES]
+    if unknown:
+        raise click.BadParameter(f"unknown check(s) {', '.join(unknown)}; the checks are {', '.join(CHECK_NAMES)}")
+    return names
+
+
+def fail(message: str, code: int) -> None:
+    click.echo(f"plugfit: {message}", err=True)
+    sys.exit(code)
+
+
+def _read_input(build_list: str) -> tuple[bytes, str]:
+    if build_list == "-":
+        return sys.stdin.buffer.read(), "<stdin>"
+    return Path(build_list).read_bytes(), build_list
+
+
+def _is_csv(source: str, text: str) -> bool:
+    from service.formats.build_list import looks_like_json
+
+    suffix = Path(source).suffix.lower()
+    if suffix == ".csv":
+        return True
+    if suffix == ".json":
+        return False
+    return not looks_like_json(text)
+
+
+def _embedded(data: bytes, source: str, units: str, require: list[str], inventory: tuple[str, ...],
+              json_only: bool = False) -> Any:
+    from service.usecases.batch import run_batch
+    from service.formats.build_list import BuildListError, decode, read_build_list
+    from service.catalog_loader import load_catalog
+    from service.cli.lookup import UnusableInput, references_from
+
+    try:
+        text = decode(data)
+        raw_items = read_build_list(text, csv_format=_is_csv(source, text))
+        fetch = references_from([Path(path) for path in inventory],
+                                warn=lambda message: click.echo(f"plugfit: warning: {message}", err=True))
+    except BuildListError as error:
+        fail(f"{source}: the build list cannot be used: " + "\n  ".join([""] + [str(p) for p in error.problems]),
+             EXIT_UNUSABLE)
+    except UnusableInput as error:
+        fail(str(error), EXIT_UNUSABLE)
+    return run_batch(raw_items, load_catalog(), fetch, units=units, require=require, split=True,
+                     json_only=json_only)
+
+
+def _remote(data: bytes, source: str, server: str, api_key: str | None, units: str, require: list[str],
+            timeout: float) -> dict[str, Any]:
+    from service.cli.remote import ServerRefused, ServerUnreachable, post_build_list
+
+    try:
+        text_start = data[:64].decode("utf-8", errors="replace")
+        return post_build_list(server, data, is_csv=_is_csv(source, text_start), api_key=api_key, units=units,
+                               require=require, timeout_s=timeout)
+    except ServerUnreachable as error:
+        fail(str(error), EXIT_UNREACHABLE)
+    except ServerRefused as error:
+        from service.formats.reports import error_lines
+
+        details = error_lines(error.errors) if error.errors else []
+        fail("\n  ".join([f"{source}: {error}"] + details[:20]), EXIT_UNUSABLE)
+    raise AssertionError("unreachable")
+
+
+@click.command("validate")
+@click.argument("build_list", type=click.Path(exists=True, dir_okay=False, allow_dash=True))
+@click.option("--server", metavar="URL", help="Send the list to a running plugfit service instead of "
+              "checking it here, e.g. http://127.0.0.1:8000.")
+@click.option("--api-key", metavar="KEY", help="Bearer key for --server, when the service makes reads need one.")
+@click.option("--format", "output_format", type=click.Choice(["text", "json", "junit"]), default="text",
+              show_default=True, help="text: a table for people; json: the batch endpoint's document; "
+              "junit: JUnit XML, one test case per line.")
+@click.option("--fail-on", type=click.Choice(["fail", "warn"]), default="fail", show_default=True,
+              help="warn: lines that warn fail the run too.")
+@click.option("--require", "require", metavar="CHECKS", callback=parse_checks, default="",
+              help="Comma-separated checks (e.g. piston,valve) whose NOT_CHECKED fails the line.")
+@click.option("--units", type=click.Choice(["metric", "imperial"]), default="metric", show_default=True)
+@click.option("--inventory", multiple=True, type=click.Path(exists=True, dir_okay=False), metavar="FILE",
+              help="Plugs/heads for sku and head_id references (inventory CSV export or JSON lines); "
+              "repeatable. Default: the local database, if migrated.")
+@click.option("--timeout", type=click.FloatRange(min=1.0), default=300.0, show_default=True,
+              help="Seconds to wait for --server's answer.")
+def command(build_list: str, server: str | None, api_key: str | None, output_format: str, fail_on: str,
+            require: list[str], units: str, inventory: tuple[str, ...], timeout: float) -> None:
+    """Check every line of BUILD_LIST (CSV, or the batch endpoint's JSON; - reads stdin).
+
+    Exit 0 when no line fails, 1 when a line fails or cannot be read, 2 when the file
+    is unusable or the options are wrong, 3 when --server cannot be reached.
+    """
+    if server and inventory:
+        raise click.UsageError("--inventory is for embedded runs; with --server the service's own inventory is used")
+    data, source = _read_input(build_list)
+    from service.formats.reports import exit_code, summary_exit_code
+
+    if server:
+        answer = _remote(data, source, server, api_key, units, require, timeout)
+        _print(answer, None, source, output_format, fail_on, units, server)
+        sys.exit(exit_code(answer, fail_on))
+    from service.usecases.batch import collector_paused
+
+    with collector_paused():  # a third of the time on long lists: see collector_paused
+        if output_format == "json":
+            # Only the JSON is printed, and the summary's counts decide the exit code:
+            # a helper process that checks half a long list then sends JSON alone.
+            batch = _embedded(data, source, units, require, inventory, json_only=True)
+            _print({}, batch.to_json(), source, output_format, fail_on, units, server)
+            code = summary_exit_code(batch.summary, fail_on)
+            del batch  # freed while the collector is paused (see service.web.fit_check_batch)
+        else:
+            answer = _embedded(data, source, units, require, inventory).as_dict()
+            _print(answer, None, source, output_format, fail_on, units, server)
+            code = exit_code(answer, fail_on)
+            del answer
+    sys.exit(code)
+
+
+def _print(answer: dict[str, Any], answer_json: str | None, source: str, output_format: str, fail_on: str,
+           units: str, server: str | None) -> None:
+    import json
+
+    from service.formats import reports
+
+    # json and junit hold no colour codes: color=True spares click a pass over megabytes
+    # of text looking for them; the table is coloured only on a terminal.
+    if output_format == "json":
+        click.echo(answer_json if answer_json is not None else json.dumps(answer, separators=(",", ":")),
+                   color=True)
+    elif output_format == "junit":
+        checked = next((r for r in answer["results"] if "engine_version" in r), {})
+        properties = {"mode": f"server {server}" if server else "embedded", "fail_on": fail_on, "units": units,
+                      "engine_version": checked.get("engine_version", ""),
+                      "catalog_version": checked.get("catalog_version", "")}
+        click.echo(reports.junit_report(answer, source, fail_on, properties), nl=False, color=True)
+    else:
+        on_terminal = sys.stdout.isatty()
+        text = reports.text_report(answer, source, fail_on, style=click.style if on_terminal else reports.plain)
+        click.echo(text, nl=False, color=on_terminal)

@@ -1,1 +1,0 @@
-"""One module per `plugfit` sub-command; listed in `service.cli._COMMAND_NAMES`."""

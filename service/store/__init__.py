@@ -1,0 +1,1 @@
+"""The database: tables, sessions and units of work, the repository of plugs and heads, history."""

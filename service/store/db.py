@@ -1,0 +1,152 @@
+"""Database engine, sessions and the Alembic bridge.
+
+One engine per app (created by `init_app`, never at import). A request gets one session
+on first use (`session()`); it is closed when the request ends, which rolls back
+anything not committed, so a failed request can never leave half a change behind.
+Code outside a request (CLI, seed loader, tests) uses `unit_of_work()` the same way.
+"""
+from __future__ import annotations
+
+from contextlib import contextmanager
+from pathlib import Path
+from typing import Iterator
+
+from flask import Flask, current_app, g
+from sqlalchemy import Engine, create_engine, event, text
+from sqlalchemy.engine import make_url
+from sqlalchemy.orm import Session, sessionmaker
+
+EXTENSION_KEY = "plugfit.db"
+MIGRATIONS_DIR = Path(__file__).resolve().parents[2] / "migrations"
+
+
+# Seconds to wait for the database before giving up (PLUGFIT_DATABASE_TIMEOUT).
+DEFAULT_TIMEOUT_S = 5
+
+
+def _sqlite_tuner(timeout_s: int):
+    def _tune_sqlite(dbapi_connection, _connection_record) -> None:
+        """WAL lets readers run while a writer commits; SQLite leaves foreign keys off unless
+        asked, per connection; the busy timeout makes a second writer wait instead of failing."""
+        cursor = dbapi_connection.cursor()
+        try:
+            cursor.execute("PRAGMA foreign_keys=ON")
+            cursor.execute(f"PRAGMA busy_timeout={int(timeout_s * 1000)}")
+            cursor.execute("PRAGMA journal_mode=WAL")
+        finally:
+            cursor.close()
+
+    return _tune_sqlite
+
+
+def make_engine(url: str, timeout_s: int = DEFAULT_TIMEOUT_S) -> Engine:
+    """An engine for `url`; SQLite files get WAL, foreign keys and a busy timeout.
+
+    A server database that is down or unreachable must cost a request `timeout_s` at
+    most, then a 503 (service.web.problems), never a hang: the connect timeout bounds a
+    connection attempt to a silent host, the pool timeout the wait for a free
+    connection, and pre-ping replaces connections that died while pooled (a database
+    restart), so the service recovers by itself when the database is back."""
+    parsed = make_url(url)
+    if parsed.get_backend_name() == "sqlite":
+        database = parsed.database
+        if database and database != ":memory:" and not database.startswith("file:"):
+            Path(database).parent.mkdir(parents=True, exist_ok=True)
+        engine = create_engine(url, connect_args={"check_same_thread": False})
+        event.listen(engine, "connect", _sqlite_tuner(timeout_s))
+        return engine
+    connect_args: dict = {}
+    if parsed.get_backend_name() == "postgresql":
+        # lock_timeout: a statement waiting on another transaction's lock gives up like
+        # SQLite's busy timeout does, instead of holding the request indefinitely.
+        connect_args = {"connect_timeout": timeout_s, "options": f"-c lock_timeout={int(timeout_s * 1000)}"}
+    return create_engine(url, pool_pre_ping=True, pool_timeout=timeout_s, connect_args=connect_args)
+
+
+class Database:
+    """The app's engine and session factory, kept in `app.extensions`."""
+
+    def __init__(self, url: str, timeout_s: int = DEFAULT_TIMEOUT_S) -> None:
+        self.url = url
+        self.engine = make_engine(url, timeout_s)
+        self.sessions = sessionmaker(self.engine, expire_on_commit=False)
+
+    @contextmanager
+    def unit_of_work(self) -> Iterator[Session]:
+        """A session that rolls back unless the block calls `commit()`."""
+        with self.sessions() as session:
+            yield session
+
+    def ping(self) -> None:
+        """Raise if the database cannot answer a trivial query."""
+        with self.engine.connect() as connection:
+            connection.execute(text("SELECT 1"))
+
+
+def init_app(app: Flask) -> Database:
+    database = Database(app.config["DATABASE_URL"], app.config.get("DATABASE_TIMEOUT", DEFAULT_TIMEOUT_S))
+    app.extensions[EXTENSION_KEY] = database
+    app.teardown_appcontext(_close_request_session)
+    return database
+
+
+def get_database(app: Flask | None = None) -> Database:
+    return (app or current_app).extensions[EXTENSION_KEY]
+
+
+def session() -> Session:
+    """The current request's session, opened on first use."""
+    if "db_session" not in g:
+        g.db_session = get_database().sessions()
+    return g.db_session
+
+
+def _close_request_session(_error: BaseException | None) -> None:
+    request_session = g.pop("db_session", None)
+    if request_session is not None:
+        request_session.close()  # rolls back whatever was not committed
+
+
+@contextmanager
+def unit_of_work(app: Flask | None = None) -> Iterator[Session]:
+    with get_database(app).unit_of_work() as work:
+        yield work
+
+
+def safe_url(url: str) -> str:
+    """The URL without its password, for messages and logs."""
+    return make_url(url).render_as_string(hide_password=True)
+
+
+def alembic_config(url: str):
+    """An Alembic configuration for `url` that needs no alembic.ini on disk."""
+    from alembic.config import Config
+
+    config = Config()
+    config.set_main_option("script_location", str(MIGRATIONS_DIR))
+    config.attributes["database_url"] = url
+    return config
+
+
+def upgrade(url: str, revision: str = "head") -> None:
+    from alembic import command
+
+    command.upgrade(alembic_config(url), revision)
+
+
+def downgrade(url: str, revision: str) -> None:
+    from alembic import command
+
+    command.downgrade(alembic_config(url), revision)
+
+
+def current_revision(url: str) -> str | None:
+    """The revision the database is at (None when never migrated)."""
+    from alembic.runtime.migration import MigrationContext
+
+    engine = make_engine(url)
+    try:
+        with engine.connect() as connection:
+            return MigrationContext.configure(connection).get_current_revision()
+    finally:
+        engine.dispose()

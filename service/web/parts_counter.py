@@ -1,0 +1,158 @@
+"""The parts counter: GET /v1/heads/{head_id}/fitting-plugs and GET /v1/plugs/{sku}/interchanges.
+
+Reads. The search itself is `service.usecases.parts_search` (SQL narrowing, then the engine); this
+module parses the query, fetches the head or the plug, and writes the page.
+"""
+from __future__ import annotations
+
+from typing import Any
+
+from flask import Response, current_app
+from flask.views import MethodView
+from sqlalchemy import select
+
+from schemas.counter import FittingPlugSchema, FittingPlugsQuerySchema, InterchangeQuerySchema, InterchangeSchema
+from schemas.results import result_document
+from schemas.specs import StoredPlugSchema, options_from, plug_spec, port_spec
+from service.usecases import parts_search
+from service.store import db, repository
+from service.web import examples, records
+from service.web.smorest import Blueprint
+from service.catalog_loader import load_catalog
+from service.fitment.interchange import THREAD_END_TOLERANCE_MM, TIP_TOLERANCE_MM, Tolerances
+from service.store.models import Plug
+from service.units import from_canonical, output_unit
+
+blp = Blueprint("parts-counter", __name__, url_prefix="/v1",
+                description="What fits this head, and what can replace this plug, from the shop's own stock.")
+
+HEAD_ID_PARAMETER = {"in": "path", "name": "head_id", "description": "The head's identifier (case-sensitive)."}
+SKU_PARAMETER = {"in": "path", "name": "sku", "description": "The plug's sku (case-sensitive)."}
+
+EXAMPLE_FITTING = [{
+    "sku": "DEMO-14F-190-SR6", "verdict": "pass", "plug": examples.PLUG,
+    "result": {"verdict": "pass", "thread": "M14x1.25", "findings": [],
+               "geometry": {"thread_protrusion": {"nominal": 0.0, "min": -0.3, "max": 0.3, "rss_min": -0.19,
+                                                  "rss_max": 0.19, "unit": "mm"}},
+               "analysis": {}, "torque": {"min": 25.0, "max": 30.0, "unit": "N*m", "turn_angle_deg": 180.0,
+                                          "source": "common practice"},
+               "assumptions": [], "cautions": ["Torque, clearance and gap values are guidance: the engine "
+                                               "maker's service data, local regulations and licensed practice "
+                                               "come first."],
+               "engine_version": "1.0.0", "catalog_version": "0123456789ab"},
+}]
+EXAMPLE_INTERCHANGE = [{
+    "sku": "DEMO-14F-190-SR6-1", "closeness": {"value": 0.0, "unit": "mm"},
+    "differences": {"thread_end": {"value": 0.0, "unit": "mm"}, "tip": {"value": 0.0, "unit": "mm"},
+                    "terminal_top": {"value": 2.0, "unit": "mm"}},
+    "hex_differs": False, "plug": examples.PLUG,
+}]
+
+_plug_schema = StoredPlugSchema()
+
+
+def _filters(query: dict[str, Any]) -> parts_search.PlugFilters:
+    return parts_search.PlugFilters(in_stock=query["in_stock"], resistor=query.get("resistor"), hex_mm=query.get("hex"))
+
+
+def _plug_documents(session, plug_ids: list[int]) -> dict[int, dict]:
+    rows = session.scalars(select(Plug).where(Plug.id.in_(plug_ids))) if plug_ids else []
+    return {row.id: _plug_schema.dump(repository.PLUGS.document_of(row)) for row in rows}
+
+
+@blp.route("/heads/<string:head_id>/fitting-plugs", parameters=[HEAD_ID_PARAMETER])
+class FittingPlugs(MethodView):
+    @blp.arguments(FittingPlugsQuerySchema, location="query")
+    @blp.response(200, FittingPlugSchema(many=True), example=EXAMPLE_FITTING)
+    @blp.alt_response(404, response="NOT_FOUND")
+    @blp.paginate()
+    def get(self, query, head_id, pagination_parameters):
+        """Inventory plugs that fit this head, best first
+
+        Every plug of the head's thread and seat is judged by the same engine as
+        `POST /v1/fit-checks`; plugs that fail are left out. Clean passes come first,
+        then plugs with warnings (`?include=pass` lists clean passes only). Within each
+        group: closest to flush first (smallest |thread_protrusion| nominal), then the
+        largest worst-case piston margin, then sku. Each entry carries the plug (with its
+        stock) and the full result document, so a counter system can say why.
+
+        Filters: `in_stock=true` (quantity_on_hand above zero), `resistor`, `hex`.
+        Check options `stack`, `min_clearance`, `flush_tolerance`, `dynamic_allowance`
+        as for a fit check; `units=imperial` answers in inches. Paginated with `page`
+        and `page_size` (X-Pagination header, with the total). Torque, clearance and gap
+        figures are guidance: the engine maker's service data, local regulations and
+        licensed practice come first.
+        """
+        session = db.session()
+        head = repository.heads(session).document(head_id)
+        if head is None:
+            records.not_found("head", "head_id", head_id)
+        options = options_from({name: query.get(name) for name in
+                                ("stack", "min_clearance", "flush_tolerance", "dynamic_allowance")})
+        page = parts_search.fitting_plugs(session, port_spec(head), options, load_catalog(), filters=_filters(query),
+                                     include=frozenset(query["include"]),
+                                     offset=pagination_parameters.first_item, limit=pagination_parameters.page_size)
+        pagination_parameters.item_count = page.total
+        plugs = _plug_documents(session, [item.plug_id for item in page.items])
+        units = query["units"]
+        documents: dict[int, dict] = {}  # plugs of one design share one result
+        body = []
+        for item in page.items:
+            document = documents.get(id(item.result))
+            if document is None:
+                document = documents[id(item.result)] = result_document(item.result, units)
+            body.append({"sku": item.sku, "verdict": item.verdict, "plug": plugs[item.plug_id], "result": document})
+        # Written directly: FittingPlugSchema documents this shape (a test loads answers
+        # through it), and a marshmallow dump of a page of results costs more than the search.
+        return Response(current_app.json.dumps(body), mimetype="application/json")
+
+
+def _quantity(value: float | None, units: str) -> dict[str, Any] | None:
+    if value is None:
+        return None
+    return {"value": round(from_canonical(value, "length", units), 5 if units == "imperial" else 4),
+            "unit": output_unit("length", units)}
+
+
+@blp.route("/plugs/<string:sku>/interchanges", parameters=[SKU_PARAMETER])
+class Interchanges(MethodView):
+    @blp.arguments(InterchangeQuerySchema, location="query")
+    @blp.response(200, InterchangeSchema(many=True), example=EXAMPLE_INTERCHANGE)
+    @blp.alt_response(404, response="NOT_FOUND")
+    @blp.paginate()
+    def get(self, query, sku, pagination_parameters):
+        """Inventory plugs that can replace this one, closest first
+
+        Purely dimensional: the same thread and seat, the thread end (reach less the
+        installed gasket) within 0.5 mm of this plug's (the flush tolerance) and the
+        tip within 0.75 mm (half the minimum clearance), both nominal; a resistor plug
+        is only replaced by a resistor plug. A plug whose firing end is unknown is only
+        compared with others whose firing end is unknown. A hex of another family is
+        noted (`hex_differs`), not refused. No maker cross-references and no heat-range
+        mapping: check a replacement against the head (fitting-plugs) for heat range,
+        gap and boot. Ranked by closeness (|thread end difference| + |tip difference|),
+        then same hex first, then sku; each entry gives the differences in mm
+        (`units=imperial`: in). `thread_end_tolerance` and `tip_tolerance` may tighten
+        the tolerances. Filters `in_stock`, `resistor`, `hex`; paginated.
+        """
+        session = db.session()
+        original = repository.plugs(session).document(sku)
+        if original is None:
+            records.not_found("plug", "sku", sku)
+        tolerances = Tolerances(thread_end_mm=query.get("thread_end_tolerance", THREAD_END_TOLERANCE_MM),
+                                tip_mm=query.get("tip_tolerance", TIP_TOLERANCE_MM))
+        page = parts_search.interchanges(session, plug_spec(original), sku, load_catalog(), filters=_filters(query),
+                                    tolerances=tolerances, offset=pagination_parameters.first_item,
+                                    limit=pagination_parameters.page_size)
+        pagination_parameters.item_count = page.total
+        plugs = _plug_documents(session, [item.plug_id for item in page.items])
+        units = query["units"]
+        body = []
+        for item in page.items:
+            comparison = item.comparison
+            body.append({"sku": item.sku, "closeness": _quantity(comparison.closeness, units),
+                         "differences": {"thread_end": _quantity(comparison.thread_end_difference, units),
+                                         "tip": _quantity(comparison.tip_difference, units),
+                                         "terminal_top": _quantity(comparison.terminal_top_difference, units)},
+                         "hex_differs": comparison.hex_differs, "plug": plugs[item.plug_id]})
+        return Response(current_app.json.dumps(body), mimetype="application/json")

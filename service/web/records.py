@@ -1,0 +1,102 @@
+"""What the plug and head endpoints share: create, replace and delete with the
+contract's status codes (201 + Location, 409 on a taken identifier, 412 on a stale
+If-Match), ETags from the row's version, and Last-Modified."""
+from __future__ import annotations
+
+from datetime import datetime, timezone
+from email.utils import format_datetime
+from typing import Any
+
+from flask import request, url_for
+from sqlalchemy.orm.exc import StaleDataError
+
+from service.store import history
+from service.web import problems
+from service.web.smorest import Blueprint
+from service.store.repository import DuplicateIdentifier, Repository
+
+
+def etag_data(row: Any, key: str) -> list[Any]:
+    """What the ETag hashes: identifier, version and creation time (a record deleted and
+    made again restarts at version 1 but is not the same record)."""
+    return [getattr(row, key), row.version, _utc(row.created_at).isoformat()]
+
+
+def _utc(stamp: datetime) -> datetime:
+    """SQLite hands back naive datetimes (written in UTC); PostgreSQL aware ones."""
+    if stamp.tzinfo is None:
+        return stamp.replace(tzinfo=timezone.utc)
+    return stamp.astimezone(timezone.utc)
+
+
+def last_modified(row: Any) -> dict[str, str]:
+    return {"Last-Modified": format_datetime(_utc(row.updated_at), usegmt=True)}
+
+
+def not_found(kind: str, key: str, identifier: str):
+    problems.abort(404, f"No {kind} with {key} {identifier!r}.", errors={key: [f"no {kind} {identifier!r}"]})
+
+
+def create(blp: Blueprint, repo: Repository, document: dict[str, Any], endpoint: str, session) -> tuple:
+    key = repo.mapping.key
+    try:
+        row = repo.add(document)
+        history.record_change(session, history.KIND_BY_KEY[key], getattr(row, key), None,
+                              repo.mapping.document_of(row), version_after=row.version)
+        session.commit()
+    except DuplicateIdentifier as duplicate:
+        problems.abort(409, f"A record with {key} {duplicate.identifier!r} exists; replace it with PUT "
+                            "or choose another identifier.",
+                       errors={key: [f"{duplicate.identifier!r} exists"]})
+    blp.set_etag(etag_data(row, key))
+    headers = {"Location": url_for(endpoint, **{key: getattr(row, key)}), **last_modified(row)}
+    return repo.mapping.document_of(row), 201, headers
+
+
+def replace(blp: Blueprint, repo: Repository, identifier: str, document: dict[str, Any], kind: str, session) -> tuple:
+    key = repo.mapping.key
+    row = repo.get(identifier)
+    if row is None:
+        not_found(kind, key, identifier)
+    given = document.get(key)
+    if given is not None and given != identifier:
+        problems.abort(422, f"The body's {key} differs from the path's; a record cannot be renamed.",
+                       errors={key: [f"must equal {identifier!r}, the path's {key}"]})
+    blp.check_etag_if_sent(etag_data(row, key))
+    before, version_before = repo.mapping.document_of(row), row.version
+    try:
+        repo.replace(row, {**document, key: identifier})
+        history.record_change(session, history.KIND_BY_KEY[key], identifier, before,
+                              repo.mapping.document_of(row), version_before=version_before,
+                              version_after=row.version)
+        session.commit()
+    except StaleDataError:
+        _changed_meanwhile(kind)
+    blp.set_etag(etag_data(row, key))
+    return repo.mapping.document_of(row), last_modified(row)
+
+
+def delete(blp: Blueprint, repo: Repository, identifier: str, kind: str, session) -> None:
+    key = repo.mapping.key
+    row = repo.get(identifier)
+    if row is None:
+        not_found(kind, key, identifier)
+    blp.check_etag_if_sent(etag_data(row, key))
+    before, version_before = repo.mapping.document_of(row), row.version
+    try:
+        repo.delete(row)
+        history.record_change(session, history.KIND_BY_KEY[key], identifier, before, None,
+                              version_before=version_before)
+        session.commit()
+    except StaleDataError:
+        _changed_meanwhile(kind)
+
+
+def _changed_meanwhile(kind: str):
+    """Another writer committed between this request's read and its write (the UPDATE or
+    DELETE is conditional on the version read, so it changed nothing). With If-Match
+    that is the stale-tag case, 412; without, 409: retry after reading again."""
+    if request.if_match:
+        problems.abort(412, f"The {kind} changed since the ETag sent in If-Match was read; "
+                            "GET it again and retry.")
+    problems.abort(409, f"The {kind} changed while this request ran; read it again and retry.")
