@@ -114,8 +114,8 @@ def _figures(samples: list[tuple[float, float]]) -> str:
 
 
 def bench_endpoint(text: str, repeat: int) -> list[tuple[float, float]]:
-    from service.web import create_app
     from service.store import db
+    from service.web import create_app
 
     with tempfile.TemporaryDirectory() as directory:
         url = f"sqlite:///{directory}/bench.db"

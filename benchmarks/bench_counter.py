@@ -98,10 +98,10 @@ def designs(rng: random.Random, count: int) -> list[dict]:
 def build_database(path: Path, plugs: int, design_count: int, seed: int) -> None:
     from sqlalchemy import insert
 
-    from service.web import create_app
     from service.store import db
-    from service.usecases import seeding
     from service.store.models import Head, Plug
+    from service.usecases import seeding
+    from service.web import create_app
 
     url = f"sqlite:///{path}"
     db.upgrade(url)
@@ -207,10 +207,10 @@ def time_requests(port: int, path: str, count: int) -> tuple[list[float], dict, 
 def search_figures(database: Path, head_id: str) -> dict:
     """What the search did for a head's first page, run in-process (for the printout)."""
     from schemas.specs import options_from, port_spec
+    from service.catalog_loader import load_catalog
+    from service.store import db, repository
     from service.usecases import parts_search
     from service.web import create_app
-    from service.store import db, repository
-    from service.catalog_loader import load_catalog
 
     app = create_app({"DATABASE_URL": f"sqlite:///{database}"})
     with db.unit_of_work(app) as session:

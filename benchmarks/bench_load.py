@@ -34,10 +34,10 @@ import threading
 import time
 import urllib.parse
 import urllib.request
+from collections.abc import Iterator
 from contextlib import contextmanager
 from dataclasses import asdict, dataclass
 from pathlib import Path
-from typing import Iterator
 
 REPO = Path(__file__).resolve().parent.parent
 LOOPBACK = "127.0.0.1"

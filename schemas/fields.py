@@ -98,8 +98,8 @@ class Length(Quantity):
         metadata.setdefault("oneOf", _NUMBER_OR_STRING + [_TOLERANCED_OBJECT])
         metadata["description"] = " ".join(part for part in (
             metadata.get("description", ""),
-            "A number (mm), a string with units such as \"0.75 in\", or an object with "
-            "value, unit and tol (or plus and minus).") if part)
+            ("A number (mm), a string with units such as \"0.75 in\", or an object with "
+            "value, unit and tol (or plus and minus).")) if part)
         super().__init__("length", minimum=minimum, maximum=maximum, metadata=metadata, **kwargs)
 
     def _deserialize(self, value: Any, attr: str | None, data: Any, **kwargs: Any) -> Dim:

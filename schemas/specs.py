@@ -71,7 +71,7 @@ def _check_thread_is_standard(data: dict, errors: dict) -> None:
     thread = data.get("thread")
     if thread is None or data.get("nonstandard_thread") or _catalog().thread(thread) is not None:
         return
-    diameter, pitch = parse_designation(thread)
+    diameter, _pitch = parse_designation(thread)
     size = _catalog().thread_for_diameter(diameter)
     hint = f" (M{diameter:g} spark-plug threads are {size.designation})" if size else ""
     errors.setdefault("thread", []).append(

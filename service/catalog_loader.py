@@ -18,7 +18,8 @@ import hashlib
 import io
 import math
 import pathlib
-from typing import Any, Callable, Iterator
+from collections.abc import Callable, Iterator
+from typing import Any
 
 from service.fitment.catalog import (
     MATERIALS,
@@ -63,10 +64,10 @@ DERIVED_SOURCES = {
 }
 
 CAUTIONS = (
-    "Torque values and turn angles are guidance for clean, dry threads: the engine maker's "
-    "service data, local regulations and licensed practice come first.",
-    "Reaches, gasket thicknesses and socket sizes marked 'common practice' or 'from memory' "
-    "have no citable published source: confirm them against the part and the head.",
+    ("Torque values and turn angles are guidance for clean, dry threads: the engine maker's "
+    "service data, local regulations and licensed practice come first."),
+    ("Reaches, gasket thicknesses and socket sizes marked 'common practice' or 'from memory' "
+    "have no citable published source: confirm them against the part and the head."),
 )
 
 
@@ -211,7 +212,7 @@ def _rows(path: pathlib.Path, content: bytes, columns: tuple[str, ...]) -> Itera
             raise ValueError(
                 f"{path.name}: line {line}, column {column!r}: expected {len(columns)} cells, found {len(cells)}"
             )
-        row = _Row(path, line, dict(zip(columns, cells)))
+        row = _Row(path, line, dict(zip(columns, cells, strict=False)))
         row.text("source")  # every value names where it comes from
         yield row
 

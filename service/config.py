@@ -7,9 +7,10 @@ never disagree about which database they talk to.
 from __future__ import annotations
 
 import os
+from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Mapping
+from typing import Any
 
 ENV_PREFIX = "PLUGFIT_"
 MIB = 1024 * 1024

@@ -57,12 +57,12 @@ OUTPUT_UNITS = {
 # The trade writes torque as ft-lb, lb-ft, ft·lbf, in-lb, lbs.ft …; pint would read
 # "ft-lb" as a subtraction and "lb" as a mass, so these spellings are rewritten first.
 _TORQUE_SPELLINGS = [
-    (re.compile(r"\b(?:foot|feet)[- ]pounds?(?:[- ]force)?\b", re.I), "lbf*ft"),
-    (re.compile(r"\binch(?:es)?[- ]pounds?(?:[- ]force)?\b", re.I), "lbf*inch"),
-    (re.compile(r"\b(?:ft|foot|feet)\s*[-·.*× ]?\s*(?:lbf|lbs|lb)\b", re.I), "lbf*ft"),
-    (re.compile(r"\b(?:lbf|lbs|lb)\s*[-·.*× ]?\s*(?:ft|foot|feet)\b", re.I), "lbf*ft"),
-    (re.compile(r"\b(?:in|inch|inches)\s*[-·.*× ]?\s*(?:lbf|lbs|lb)\b", re.I), "lbf*inch"),
-    (re.compile(r"\b(?:lbf|lbs|lb)\s*[-·.*× ]?\s*(?:in|inch|inches)\b", re.I), "lbf*inch"),
+    (re.compile(r"\b(?:foot|feet)[- ]pounds?(?:[- ]force)?\b", re.IGNORECASE), "lbf*ft"),
+    (re.compile(r"\binch(?:es)?[- ]pounds?(?:[- ]force)?\b", re.IGNORECASE), "lbf*inch"),
+    (re.compile(r"\b(?:ft|foot|feet)\s*[-·.*× ]?\s*(?:lbf|lbs|lb)\b", re.IGNORECASE), "lbf*ft"),
+    (re.compile(r"\b(?:lbf|lbs|lb)\s*[-·.*× ]?\s*(?:ft|foot|feet)\b", re.IGNORECASE), "lbf*ft"),
+    (re.compile(r"\b(?:in|inch|inches)\s*[-·.*× ]?\s*(?:lbf|lbs|lb)\b", re.IGNORECASE), "lbf*inch"),
+    (re.compile(r"\b(?:lbf|lbs|lb)\s*[-·.*× ]?\s*(?:in|inch|inches)\b", re.IGNORECASE), "lbf*inch"),
     (re.compile(r"\bN\s*[-·.× ]?\s*m\b"), "N*m"),
     (re.compile(r"\bNm\b"), "N*m"),
 ]
@@ -75,12 +75,12 @@ _GENERAL_SPELLINGS = [
 ]
 
 
-_NOT_FINITE = re.compile(r"^[-+]?(?:nan|inf|infinity)\b", re.I)
+_NOT_FINITE = re.compile(r"^[-+]?(?:nan|inf|infinity)\b", re.IGNORECASE)
 _STARTS_WITH_NUMBER = re.compile(r"^\(?\s*[-+]?(?:\d|\.\d)")
 
 
 @lru_cache(maxsize=1)
-def registry() -> "pint.UnitRegistry":
+def registry() -> pint.UnitRegistry:
     """The one registry of the project, built on first use (never at import time)."""
     import pint
 

@@ -13,17 +13,17 @@ from __future__ import annotations
 
 import os
 import shutil
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Callable, Iterator
 
 import pytest
 from click.testing import CliRunner, Result
 from flask import Flask
 from flask.testing import FlaskClient
 
-from service.web import create_app
 from service.store import db
+from service.web import create_app
 from service.web.auth import create_key
 from tests import postgres
 

@@ -15,7 +15,7 @@ import gc
 import os
 import secrets
 import sys
-from typing import Iterable
+from collections.abc import Iterable
 
 from sqlalchemy import create_engine, inspect, text
 from sqlalchemy.engine import URL, make_url

@@ -13,7 +13,6 @@ from importlib import import_module
 import click
 
 
-
 class LazyGroup(click.Group):
     """Imports a command's module only when that command runs (or help lists it), so
     `plugfit validate` in a CI job does not import Flask and SQLAlchemy first."""

@@ -12,13 +12,15 @@ a wrong option).
 from __future__ import annotations
 
 import sys
+from collections.abc import Callable
 from pathlib import Path
-from typing import Any, Callable
+from typing import Any
 
 import click
 
-from service.formats.build_list import FieldSpec, field_specs
 from service.cli.validate import EXIT_UNUSABLE, fail, parse_checks
+from service.formats.build_list import FieldSpec, field_specs
+
 
 def option_name(column: str) -> str:
     return "--" + column.replace("_", "-")
@@ -79,11 +81,11 @@ def command(request_file: str | None, output_format: str, units: str, fail_on: s
     the head inline (--head-thread, --head-seat, --head-port-depth, ...) or as --head-id.
     Exit 0 when it fits, 1 when it does not, 2 when the request cannot be used.
     """
-    from service.usecases.batch import InvalidItem, check_items, load_items, references
-    from service.formats.build_list import BuildListError, RawItem, item_from_cells
     from service.catalog_loader import load_catalog
     from service.cli.lookup import UnusableInput, load_request_file, references_from
+    from service.formats.build_list import BuildListError, RawItem, item_from_cells
     from service.formats.reports import error_lines, failing_verdicts, result_text
+    from service.usecases.batch import check_items, load_items, references
 
     cells = _cells(values)
     if "require" in cells:
@@ -111,9 +113,9 @@ def command(request_file: str | None, output_format: str, units: str, fail_on: s
         lines = [line if request_file else _as_option(line) for line in error_lines(result["errors"])]
         fail("the request cannot be used:\n  " + "\n  ".join(lines), EXIT_UNUSABLE)
     if svg_file:
-        from service.formats.drawing import render_request_svg
+        from service.usecases.fit_check import draw_check
 
-        drawing = render_request_svg(items[0].request, load_catalog(), plugs.get, heads.get, units)
+        drawing = draw_check(items[0].request, load_catalog(), plugs.get, heads.get, units)
         Path(svg_file).write_text(drawing, encoding="utf-8")
     document = {key: value for key, value in result.items() if key not in ("ref", "line", "waivers")}
     if output_format == "json":

@@ -1,8 +1,9 @@
 """What every `plugfit` command shares: the app, built once per invocation, on use."""
 from __future__ import annotations
 
+from collections.abc import Callable
 from functools import update_wrapper
-from typing import Any, Callable
+from typing import Any
 
 import click
 from flask import Flask

@@ -4,8 +4,8 @@ from __future__ import annotations
 import click
 from flask import Flask
 
-from service.store import db
 from service.cli.common import with_app
+from service.store import db
 
 
 @click.group("db")

@@ -8,10 +8,10 @@ from pathlib import Path
 import click
 from flask import Flask
 
+from service.cli.common import with_app
+from service.formats import stock_file
 from service.store import db
 from service.usecases import stock
-from service.formats import stock_file
-from service.cli.common import with_app
 
 
 @click.group("export")

@@ -13,10 +13,10 @@ from pathlib import Path
 import click
 from flask import Flask
 
+from service.cli.common import with_app
+from service.formats import stock_file
 from service.store import db
 from service.usecases import stock
-from service.formats import stock_file
-from service.cli.common import with_app
 
 # Below this many rows a progress bar is more noise than help.
 PROGRESS_FROM_ROWS = 2000

@@ -6,10 +6,10 @@ from flask import Flask
 from sqlalchemy import delete, select
 from sqlalchemy.exc import IntegrityError
 
-from service.web import auth
-from service.store import db
 from service.cli.common import with_app
+from service.store import db
 from service.store.models import ApiKey
+from service.web import auth
 
 
 @click.group("keys")

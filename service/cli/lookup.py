@@ -18,8 +18,9 @@ Either way the lookups happen once per run with every distinct identifier (see
 from __future__ import annotations
 
 import json
+from collections.abc import Callable
 from pathlib import Path
-from typing import Any, Callable
+from typing import Any
 
 from service.usecases.batch import FetchReferences
 

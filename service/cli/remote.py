@@ -8,7 +8,8 @@ exit 3).
 """
 from __future__ import annotations
 
-from typing import Any, Iterable
+from collections.abc import Iterable
+from typing import Any
 
 BATCH_PATH = "/v1/fit-checks/batch"
 CONNECT_TIMEOUT_S = 10.0

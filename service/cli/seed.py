@@ -4,9 +4,9 @@ from __future__ import annotations
 import click
 from flask import Flask
 
+from service.cli.common import with_app
 from service.store import db
 from service.usecases import seeding
-from service.cli.common import with_app
 
 
 @click.command("seed")

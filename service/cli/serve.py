@@ -6,9 +6,9 @@ from typing import Any
 import click
 from flask import Flask
 
+from service.cli.common import with_app
 from service.store import db
 from service.web import serving
-from service.cli.common import with_app
 
 
 def _head_revision() -> str | None:

@@ -54,10 +54,10 @@ def _is_csv(source: str, text: str) -> bool:
 
 def _embedded(data: bytes, source: str, units: str, require: list[str], inventory: tuple[str, ...],
               json_only: bool = False) -> Any:
-    from service.usecases.batch import run_batch
-    from service.formats.build_list import BuildListError, decode, read_build_list
     from service.catalog_loader import load_catalog
     from service.cli.lookup import UnusableInput, references_from
+    from service.formats.build_list import BuildListError, decode, read_build_list
+    from service.usecases.batch import run_batch
 
     try:
         text = decode(data)

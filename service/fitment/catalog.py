@@ -6,8 +6,8 @@ tests can hand it a catalogue built in memory.
 """
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Mapping
 
 SEATS = ("flat", "conical")
 MATERIALS = ("aluminium", "cast_iron")
@@ -77,7 +77,7 @@ class Catalog:
     torques: Mapping[tuple[str, str, str], TorqueGuide] = field(default_factory=dict)
     sources: Mapping[str, str] = field(default_factory=dict)
     # Hex look-ups repeat the same few sizes; memoised per catalogue, never compared.
-    _hex_memo: dict = field(default_factory=dict, compare=False, repr=False)
+    _hex_memo: dict[float, HexSize | None] = field(default_factory=dict, compare=False, repr=False)
 
     def thread(self, designation: str) -> ThreadSize | None:
         return self.threads.get(designation)

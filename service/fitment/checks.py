@@ -11,8 +11,9 @@ from __future__ import annotations
 
 import itertools
 import math
+from collections.abc import Callable
 from functools import lru_cache
-from typing import Callable, NamedTuple
+from typing import NamedTuple
 
 from .context import FitContext, Skip, skip_reason
 from .designation import parse_designation
@@ -42,7 +43,7 @@ def _not_given_table(check: str, *inputs: str) -> dict[tuple[bool, ...], Skip]:
     and looking the reason up is cheaper than joining it each time."""
     table = {}
     for pattern in itertools.product((False, True), repeat=len(inputs)):
-        missing = [text for text, absent in zip(inputs, pattern) if absent]
+        missing = [text for text, absent in zip(inputs, pattern, strict=False) if absent]
         if missing:
             table[pattern] = skip_reason(check, " and ".join(missing) + " not given")
     return table
@@ -301,6 +302,8 @@ def check_thread_strength(ctx: FitContext) -> None:
     diameter, pitch, limits, allowances = thread
     # Worst-case ends of the stand-off and the port depth, as `Stack.bounds` computes them.
     gasket, depth = ctx.gasket, ctx.port_depth
+    # A thread protrusion exists, so the plug has a reach and the port a depth.
+    assert plug.reach is not None and gasket is not None and depth is not None
     engaged = engaged_length_mm(reach_min_mm=plug.reach.nominal - plug.reach.minus,
                                 standoff_min_mm=gasket.nominal - gasket.down,
                                 standoff_max_mm=gasket.nominal + gasket.up,
@@ -342,6 +345,7 @@ def _port_thread(designation: str) -> tuple[float, float, ThreadLimits, Engageme
     if size is None or size[1] is None:
         return None
     diameter, pitch = size
+    assert pitch is not None
     return diameter, pitch, port_thread_limits(diameter, pitch), EngagementAllowances.common_practice(pitch)
 
 

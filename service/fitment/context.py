@@ -12,8 +12,8 @@ from typing import NamedTuple
 
 from .catalog import Catalog, TorqueGuide
 from .defaults import DYNAMIC_ALLOWANCE_MM, FLUSH_TOLERANCE_MM, MIN_CLEARANCE_MM, Default
-from .model import Bounds, Finding, Options, PlugSpec, PortSpec, Value
-from .stack import Stack
+from .model import Finding, Options, PlugSpec, PortSpec, Value
+from .stack import Bounds, Stack
 
 
 class Skip(NamedTuple):
@@ -51,9 +51,23 @@ _new = tuple.__new__
 
 
 class FitContext:
-    __slots__ = ("plug", "port", "options", "catalog", "findings", "analysis", "assumptions",
-                 "torque", "gasket", "port_depth", "port_depth_long",
-                 "geometry", "worst", "low", "high")
+    __slots__ = (
+        "analysis",
+        "assumptions",
+        "catalog",
+        "findings",
+        "gasket",
+        "geometry",
+        "high",
+        "low",
+        "options",
+        "plug",
+        "port",
+        "port_depth",
+        "port_depth_long",
+        "torque",
+        "worst",
+    )
 
     def __init__(self, plug: PlugSpec, port: PortSpec, options: Options, catalog: Catalog) -> None:
         self.plug = plug
@@ -98,8 +112,7 @@ class FitContext:
     # --- reporting -------------------------------------------------------------------
     def add(self, code: str, check: str, severity: str, message: str, **values: Value) -> None:
         rank = _SEVERITY_RANK[severity]
-        if rank > self.worst:
-            self.worst = rank
+        self.worst = max(self.worst, rank)
         # tuple.__new__ skips the NamedTuple's Python-level __new__; same fields, same order.
         self.findings.append(_new(Finding, (code, check, severity, message, values)))
 

@@ -38,7 +38,7 @@ from dataclasses import dataclass
 
 from .catalog import Catalog
 from .context import FitContext
-from .geometry import _clearance_stack, derive
+from .geometry import clearance_stack, derive
 from .model import FitResult, Options, PlugSpec, PortSpec
 
 # Slack on every comparison of the bounds, in mm: far above float rounding (1e-12 mm),
@@ -86,12 +86,13 @@ def fit_bounds(port: PortSpec, options: Options, catalog: Catalog) -> FitBounds:
     depth = window = None
     if ctx.port_depth is not None:
         depth = ctx.port_depth.nominal
+        assert ctx.port_depth_long is not None  # derived with the port depth
         window = (ctx.port_depth_long.nominal - tolerance, depth + tolerance)
 
     fail_above = safe_upto = piston_low = None
     for from_seat, from_breakout, is_piston in ((port.seat_to_piston, port.piston_clearance, True),
                                                 (port.seat_to_valve, port.valve_clearance, False)):
-        obstacle = _clearance_stack(ctx, from_seat, from_breakout)
+        obstacle = clearance_stack(ctx, from_seat, from_breakout)
         if obstacle is None:
             continue
         nominal_limit = obstacle.nominal - allowance - minimum
@@ -101,7 +102,8 @@ def fit_bounds(port: PortSpec, options: Options, catalog: Catalog) -> FitBounds:
         if is_piston:
             piston_low = obstacle.nominal - obstacle.down - allowance
 
-    failing, passing = [], []
+    failing: list[float] = []
+    passing: list[float] = []
     if port.well_bore is not None:
         for size_of_hex in catalog.hexes:
             (failing if size_of_hex.socket_od_mm > port.well_bore else passing).append(size_of_hex.across_flats_mm)
@@ -187,13 +189,13 @@ class RankKey:
     protrusion: float | None  # |thread end - port depth|, nominal
     piston_margin: float | None  # worst case
 
-    def class_key(self, group: int) -> tuple:
+    def class_key(self, group: int) -> tuple[int, bool, float, bool, float]:
         """The order of verdict groups and keys; plugs with equal class keys rank by sku."""
         return (group,
                 self.protrusion is None, self.protrusion or 0.0,
                 self.piston_margin is None, -(self.piston_margin or 0.0))
 
-    def sort_key(self, group: int, sku: str) -> tuple:
+    def sort_key(self, group: int, sku: str) -> tuple[int, bool, float, bool, float, str]:
         return self.class_key(group) + (sku,)
 
 

@@ -30,8 +30,8 @@ STACKS = ("worst_case", "rss")
 LUBRICATIONS = ("dry", "oiled", "anti_seize")
 
 CAUTIONS = (
-    "Torque, clearance and gap values are guidance: the engine maker's service data, "
-    "local regulations and licensed practice come first.",
-    "Clearances are computed from the dimensions given; measure the head and piston "
-    "of the actual engine before fitting a plug of a different reach.",
+    ("Torque, clearance and gap values are guidance: the engine maker's service data, "
+    "local regulations and licensed practice come first."),
+    ("Clearances are computed from the dimensions given; measure the head and piston "
+    "of the actual engine before fitting a plug of a different reach."),
 )

@@ -8,7 +8,7 @@ from __future__ import annotations
 import re
 from functools import lru_cache
 
-_DESIGNATION = re.compile(r"^\s*M\s*(\d+(?:\.\d+)?)\s*(?:[x×X*]\s*(\d+(?:\.\d+)?))?\s*$", re.I)
+_DESIGNATION = re.compile(r"^\s*M\s*(\d+(?:\.\d+)?)\s*(?:[x×X*]\s*(\d+(?:\.\d+)?))?\s*$", re.IGNORECASE)
 
 
 @lru_cache(maxsize=256)

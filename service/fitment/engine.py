@@ -5,12 +5,14 @@ resolves references before calling `check_fit`, and serialises the result after.
 """
 from __future__ import annotations
 
+from collections.abc import Iterable
+
 from .catalog import Catalog
 from .checks import CHECKS
 from .context import FitContext
 from .defaults import CAUTIONS
 from .geometry import derive
-from .model import FitResult, Options, PlugSpec, PortSpec
+from .model import Finding, FitResult, Options, PlugSpec, PortSpec
 
 ENGINE_VERSION = "1.0.0"
 
@@ -19,7 +21,7 @@ _VERDICTS = ("pass", "warn", "fail")
 DEFAULT_OPTIONS = Options()
 
 
-def verdict_of(findings) -> str:
+def verdict_of(findings: Iterable[Finding]) -> str:
     """The worst severity present: fail over warn over pass (info does not count)."""
     worst = 0
     for finding in findings:

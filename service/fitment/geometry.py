@@ -56,14 +56,14 @@ def _port_depth(ctx: FitContext) -> Stack | None:
     return None if thickness is None else port.design_reach - Stack.exact(thickness)
 
 
-def _clearance_stack(ctx: FitContext, from_seat: Dim | None, from_breakout: Dim | None) -> Stack | None:
+def clearance_stack(ctx: FitContext, from_seat: Dim | None, from_breakout: Dim | None) -> Stack | None:
     """Distance from the seat face to an obstacle (piston, valve) along the axis."""
     terms = _obstacle_terms(from_seat, from_breakout, ctx.port_depth)
     return terms if terms is None or terms is from_seat else Stack(*terms)
 
 
-def _obstacle_terms(from_seat: Dim | None, from_breakout: Dim | None, depth: Stack | None) -> tuple | None:
-    """`_clearance_stack`'s terms, as a plain tuple when summed: `derive` reads them once,
+def _obstacle_terms(from_seat: Dim | None, from_breakout: Dim | None, depth: Stack | None) -> tuple[float, ...] | Dim | None:
+    """`clearance_stack`'s terms, as a plain tuple when summed: `derive` reads them once,
     and a plain tuple is made and unpacked in half the time of a `Stack` (about 0.2 µs a
     fit on heads that give the clearance from the breakout)."""
     if from_seat is not None:

@@ -69,11 +69,11 @@ class Comparison:
     hex_differs: bool | None          # None: a hex is unknown
     closeness: float                  # |thread end difference| + |tip difference|
 
-    def class_key(self) -> tuple:
+    def class_key(self) -> tuple[float, bool]:
         """Closest first, then the same hex family first; equal class keys rank by sku."""
         return (round(self.closeness, KEY_DIGITS), self.hex_differs is True)
 
-    def sort_key(self, sku: str) -> tuple:
+    def sort_key(self, sku: str) -> tuple[float, bool, str]:
         return self.class_key() + (sku,)
 
 
@@ -121,7 +121,7 @@ def compare(original: PlugSpec, candidate: PlugSpec, catalog: Catalog,
     if (here.tip is None) != (there.tip is None):
         return None  # one tip unknown: the tips cannot be compared
     tip = None
-    if here.tip is not None:
+    if here.tip is not None and there.tip is not None:
         tip = there.tip - here.tip
         if abs(tip) > tolerances.tip_mm + SLACK_MM:
             return None

@@ -8,8 +8,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from operator import itemgetter
-
-from typing import TYPE_CHECKING, NamedTuple
+from typing import TYPE_CHECKING, NamedTuple, Self
 
 from .stack import Bounds, Stack
 
@@ -28,7 +27,7 @@ class Dim(Stack):
 
     __slots__ = ()
 
-    def __new__(cls, nominal: float, plus: float = 0.0, minus: float = 0.0) -> "Dim":  # type: ignore[misc]
+    def __new__(cls, nominal: float, plus: float = 0.0, minus: float = 0.0) -> Self:
         return tuple.__new__(cls, (nominal, plus, minus, plus * plus, minus * minus))
 
     def __getnewargs__(self) -> tuple[float, float, float]:  # pickling and copy
@@ -140,7 +139,7 @@ class Finding(NamedTuple):
     check: str
     severity: str
     message: str
-    values: dict[str, Value] = {}  # never mutated: a finding is immutable once made
+    values: dict[str, Value] = {}  # noqa: RUF012 - never mutated: a finding is immutable once made
 
 
 @dataclass(slots=True)

@@ -38,19 +38,19 @@ class Stack(NamedTuple):
     down_sq: float = 0.0
 
     @staticmethod
-    def of(dim: "Stack") -> "Stack":
+    def of(dim: Stack) -> Stack:
         # A Dim is already a one-term stack (see model.Dim); this only drops its type.
         return _new(Stack, dim)
 
     @staticmethod
-    def exact(value: float) -> "Stack":
+    def exact(value: float) -> Stack:
         return _new(Stack, (value, 0.0, 0.0, 0.0, 0.0))
 
-    def __add__(self, other: "Stack") -> "Stack":  # type: ignore[override]
+    def __add__(self, other: Stack) -> Stack:  # type: ignore[override]
         return _new(Stack, (self[0] + other[0], self[1] + other[1], self[2] + other[2],
                             self[3] + other[3], self[4] + other[4]))
 
-    def __sub__(self, other: "Stack") -> "Stack":
+    def __sub__(self, other: Stack) -> Stack:
         # Subtracting a length turns its plus tolerance into a downward excursion.
         return _new(Stack, (self[0] - other[0], self[1] + other[2], self[2] + other[1],
                             self[3] + other[4], self[4] + other[3]))

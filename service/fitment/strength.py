@@ -219,13 +219,13 @@ def engaged_length_mm(
     relief, chamfer = allowances.thread_relief_mm, allowances.lead_chamfer_mm
     incomplete = allowances.incomplete_thread_mm
     end, start = reach_min_mm - standoff_min_mm, relief - standoff_min_mm
-    at_min = ((port_depth_min_mm if port_depth_min_mm < end else end)
-              - (chamfer if chamfer > start else start) - incomplete)
+    at_min = ((min(end, port_depth_min_mm))
+              - (max(start, chamfer)) - incomplete)
     end, start = reach_min_mm - standoff_max_mm, relief - standoff_max_mm
-    at_max = ((port_depth_min_mm if port_depth_min_mm < end else end)
-              - (chamfer if chamfer > start else start) - incomplete)
-    least = at_max if at_max < at_min else at_min
-    return least if least > 0.0 else 0.0
+    at_max = ((min(end, port_depth_min_mm))
+              - (max(start, chamfer)) - incomplete)
+    least = min(at_min, at_max)
+    return max(0.0, least)
 
 
 def thread_strength(

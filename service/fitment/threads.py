@@ -18,6 +18,7 @@ Sources and grades (see ../shared/product/reference-values.md (beside the reposi
 """
 from __future__ import annotations
 
+import itertools
 import math
 from dataclasses import dataclass
 
@@ -88,7 +89,7 @@ def size_range_mean_mm(nominal_diameter_mm: float) -> float:
     limits = _SIZE_RANGE_LIMITS_MM
     if not limits[0] < nominal_diameter_mm <= limits[-1]:
         raise ValueError(f"nominal diameter {nominal_diameter_mm} mm is outside ISO 965-1 (1 to 600 mm)")
-    for low, high in zip(limits, limits[1:]):
+    for low, high in itertools.pairwise(limits):
         if low < nominal_diameter_mm <= high:
             return math.sqrt(low * high)
     raise AssertionError("unreachable: the ranges cover (0.99, 600]")
@@ -153,7 +154,7 @@ def internal_minor_diameter_tolerance_6_um(pitch_mm: float) -> float:
 
 def _external_pitch_tolerance_6_unrounded(nominal_diameter_mm: float, pitch_mm: float) -> float:
     # ISO 965-1: Td2(6) = 90·P^0.4·d^0.1 with d the geometric mean of the size range.
-    return 90.0 * pitch_mm**0.4 * size_range_mean_mm(nominal_diameter_mm) ** 0.1
+    return 90.0 * math.pow(pitch_mm, 0.4) * math.pow(size_range_mean_mm(nominal_diameter_mm), 0.1)
 
 
 @dataclass(frozen=True, slots=True)

@@ -33,9 +33,10 @@ import difflib
 import io
 import json
 import re
+from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass, field
 from functools import lru_cache
-from typing import Any, Callable, Iterable, Mapping
+from typing import Any
 
 from marshmallow import Schema, ValidationError, fields
 

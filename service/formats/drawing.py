@@ -21,14 +21,11 @@ from dataclasses import dataclass
 from xml.sax.saxutils import escape, quoteattr
 
 from schemas.results import result_document
-from schemas.specs import options_from, plug_spec, port_spec
-from service.usecases.fit_check import Lookup, resolve
-from service.fitment import check_fit
 from service.fitment.catalog import Catalog
 from service.fitment.context import FitContext
 from service.fitment.geometry import derive
-from service.fitment.model import Bounds, FitResult, Finding, Options, PlugSpec, PortSpec
-from service.fitment.stack import Stack
+from service.fitment.model import Finding, FitResult, Options, PlugSpec, PortSpec
+from service.fitment.stack import Bounds, Stack
 
 MM_PER_INCH = 25.4  # exact (NIST SP 811, 2008, appendix B)
 CONICAL_SEAT_HALF_ANGLE_DEG = 31.5  # 63° included taper (common practice), drawn schematically
@@ -378,19 +375,6 @@ def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str
     return '<?xml version="1.0" encoding="UTF-8"?>\n' + "\n".join(svg.parts) + "\n"
 
 
-def render_request_svg(request: dict, catalog: Catalog, find_plug: Lookup, find_head: Lookup,
-                       units: str = "metric") -> str:
-    """The drawing for a loaded fit-check request: the one path the API and the CLI share.
-
-    References (`sku`, `head_id`) are resolved with the caller's look-ups; an unknown one
-    raises `service.usecases.fit_check.UnknownReference`, as for the check itself.
-    """
-    plug, head = resolve(request, find_plug, find_head)
-    plug_data, port_data = plug_spec(plug), port_spec(head)
-    result = check_fit(plug_data, port_data, options_from(request.get("options")), catalog)
-    return render_fit_svg(plug_data, port_data, result, units, catalog=catalog)
-
-
 def _label(svg: _Svg, text: str, x: float, y: float, size: float = 11.0, anchor: str = "start",
            bold: bool = False, italic: bool = False) -> None:
     """Text on a white backing, so it stays readable over hatching (width estimated)."""
@@ -548,7 +532,7 @@ def _listed(findings: list[Finding]) -> list[Finding]:
 def _legend_rows(findings: list[Finding], messages: list[str]) -> list[tuple[str, str, str, list[str]]]:
     """(mark, severity, heading, wrapped message lines) per listed finding, numbered as on
     the drawing; the checks skipped for lack of data share one row."""
-    message_of = {id(finding): message for finding, message in zip(findings, messages)}
+    message_of = {id(finding): message for finding, message in zip(findings, messages, strict=False)}
     rows: list[tuple[str, str, str, list[str]]] = []
     for number, finding in enumerate(_listed(findings), start=1):
         label = SEVERITY_STYLE[finding.severity]["label"]

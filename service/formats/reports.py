@@ -6,8 +6,9 @@ Pure: text in, text out; colour comes in through `style` (click's, from the CLI)
 """
 from __future__ import annotations
 
+from collections.abc import Callable, Iterable
 from pathlib import PurePath
-from typing import Any, Callable, Iterable
+from typing import Any
 from xml.sax.saxutils import escape, quoteattr
 
 Style = Callable[..., str]

@@ -35,9 +35,10 @@ import csv
 import io
 import json
 import math
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
 from functools import cache
-from typing import Any, Iterable, Iterator, TextIO
+from typing import Any, TextIO
 
 from marshmallow import Schema, ValidationError, fields
 
@@ -252,7 +253,7 @@ def _record(header: list[str], cells: list[str], fmt: ExchangeFormat, line: int)
     lengths: dict[tuple[str, str | None], dict[str, Any]] = {}
     if len(cells) > len(header):
         record[ROW_ERRORS] = f"{len(cells)} cells but the header names {len(header)} columns"
-    for name, cell in zip(header, cells):
+    for name, cell in zip(header, cells, strict=False):
         column = known[name]
         if column.reader != "text":
             cell = cell.strip()
@@ -377,14 +378,14 @@ def media_type_of(filename: str) -> str:
 # --- writing -------------------------------------------------------------------------------
 
 
-def format_number(value: float | int) -> str:
+def format_number(value: float) -> str:
     """The shortest text that reads back as the same number (`19`, `0.2`, `1e-05`)."""
     if isinstance(value, bool):
         return "true" if value else "false"
     if isinstance(value, int):
         return str(value)
     text = repr(float(value))
-    return text[:-2] if text.endswith(".0") else text
+    return text.removesuffix(".0")
 
 
 def _cell(document: dict[str, Any], column: Column) -> str:
@@ -428,9 +429,9 @@ def csv_lines(documents: Iterable[dict[str, Any]], fmt: ExchangeFormat) -> Itera
 def write_csv(documents: Iterable[dict[str, Any]], fmt: ExchangeFormat, out: TextIO,
               comments: Iterable[str] = ()) -> int:
     """Write the documents as CSV, after optional `# ` comment lines; returns the row count."""
-    for comment in comments:
-        out.write(f"{COMMENT_PREFIX} {comment}\n")
-    rows = -1
-    for rows, line in enumerate(csv_lines(documents, fmt)):
+    out.writelines(f"{COMMENT_PREFIX} {comment}\n" for comment in comments)
+    rows = 0
+    for line in csv_lines(documents, fmt):
         out.write(line)
-    return rows
+        rows += 1
+    return rows - 1  # the header line is not a row

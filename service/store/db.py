@@ -7,9 +7,9 @@ Code outside a request (CLI, seed loader, tests) uses `unit_of_work()` the same 
 """
 from __future__ import annotations
 
+from collections.abc import Iterator
 from contextlib import contextmanager
 from pathlib import Path
-from typing import Iterator
 
 from flask import Flask, current_app, g
 from sqlalchemy import Engine, create_engine, event, text

@@ -12,9 +12,10 @@ history reads like the API and survives later changes to the table's columns.
 from __future__ import annotations
 
 import getpass
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from functools import cache
-from typing import Any, Iterable, Mapping, Sequence
+from typing import Any
 
 from flask import g, has_request_context
 from marshmallow import Schema

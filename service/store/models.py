@@ -8,9 +8,10 @@ three NULLs, never a silent default. The schema itself changes only through Alem
 """
 from __future__ import annotations
 
-from datetime import datetime, timezone
+from datetime import UTC, datetime
+from typing import Any, ClassVar
 
-from sqlalchemy import JSON, Boolean, false, DateTime, Float, Index, Integer, MetaData, String
+from sqlalchemy import JSON, Boolean, DateTime, Float, Index, Integer, MetaData, String, false
 from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column
 
 IDENTIFIER_LENGTH = 64
@@ -26,7 +27,7 @@ NAMING_CONVENTION = {
 
 
 def utc_now() -> datetime:
-    return datetime.now(timezone.utc)
+    return datetime.now(UTC)
 
 
 class Base(DeclarativeBase):
@@ -79,7 +80,7 @@ class Plug(Timestamped, Base):
     # the ETag is derived from it.
     version: Mapped[int] = mapped_column(Integer, nullable=False, default=1, server_default="1")
 
-    __mapper_args__ = {"version_id_col": version}
+    __mapper_args__: ClassVar[dict[str, Any]] = {"version_id_col": version}
     __table_args__ = (
         # The fitting-plugs search narrows 100,000 plugs by thread and seat first.
         Index("ix_plugs_thread_seat", "thread", "seat"),
@@ -152,7 +153,7 @@ class Head(Timestamped, Base):
     spark_advance_deg: Mapped[float | None] = mapped_column(Float)
     version: Mapped[int] = mapped_column(Integer, nullable=False, default=1, server_default="1")
 
-    __mapper_args__ = {"version_id_col": version}
+    __mapper_args__: ClassVar[dict[str, Any]] = {"version_id_col": version}
 
 
 class ApiKey(Base):

@@ -7,7 +7,8 @@ the batch endpoint (the request's session) and the embedded CLI (its own session
 """
 from __future__ import annotations
 
-from typing import Any, Iterable
+from collections.abc import Iterable
+from typing import Any
 
 from sqlalchemy import select
 from sqlalchemy.orm import Session

@@ -8,8 +8,9 @@ dropped: every tolerance is kept, absent values stay absent.
 """
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Any, Generic, Sequence, TypeVar
+from typing import Any, Generic, TypeVar
 
 from sqlalchemy import Select, func, or_, select
 from sqlalchemy.exc import IntegrityError

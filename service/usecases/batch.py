@@ -26,21 +26,22 @@ import select
 import signal
 import threading
 import time
+from collections.abc import Callable, Iterable, Iterator, Mapping
 from contextlib import contextmanager
-from json.encoder import encode_basestring_ascii as _json_string
 from dataclasses import dataclass
 from functools import lru_cache
-from typing import Any, Callable, Iterable, Iterator, Mapping
+from json.encoder import encode_basestring_ascii as _json_string
+from typing import Any
 
 from marshmallow import Schema, ValidationError, missing
 
 from schemas.batch import BatchItemSchema
 from schemas.results import result_document
-from service.formats.build_list import RawItem, errors_by_column
-from service.usecases.fit_check import UnknownReference, run_check
 from service.fitment import verdict_of
 from service.fitment.catalog import Catalog
 from service.fitment.model import FitResult
+from service.formats.build_list import RawItem, errors_by_column
+from service.usecases.fit_check import UnknownReference, run_check
 
 _pause_lock = threading.Lock()
 _pauses = 0  # batches running with the collector paused
@@ -289,7 +290,7 @@ def _waive(result: FitResult, document: dict[str, Any], waivers: list[dict[str, 
     verdict recomputed from what remains."""
     taken: list[list[dict]] = [[] for _ in waivers]
     kept_findings, kept_documents = [], []
-    for finding, finding_document in zip(result.findings, document["findings"]):
+    for finding, finding_document in zip(result.findings, document["findings"], strict=False):
         for index, waiver in enumerate(waivers):
             if finding.code in waiver["codes"]:
                 taken[index].append(finding_document)
@@ -301,7 +302,7 @@ def _waive(result: FitResult, document: dict[str, Any], waivers: list[dict[str, 
     waived["verdict"] = verdict_of(kept_findings)
     waived["findings"] = kept_documents
     waived["waivers"] = [{"codes": list(waiver["codes"]), "reason": waiver["reason"], "findings": findings}
-                         for waiver, findings in zip(waivers, taken)]
+                         for waiver, findings in zip(waivers, taken, strict=False)]
     return waived
 
 
@@ -332,7 +333,7 @@ class BatchAnswer:
     writer encodes each distinct document once.
     """
 
-    __slots__ = ("summary", "_segments", "_results")
+    __slots__ = ("_results", "_segments", "summary")
 
     def __init__(self, summary: dict[str, Any], entries: list[Entry] | None = None, *,
                  segments: list[_Segment] | None = None) -> None:
@@ -659,7 +660,7 @@ def _receive(read_end: int, deadline: float) -> tuple[dict[str, int], str | None
         chunks.append(chunk)
     try:
         payload = pickle.loads(b"".join(chunks))
-    except Exception:  # a helper that died mid-write: its half is checked here
+    except Exception:  # noqa: BLE001 - a helper that died mid-write: its half is checked here
         return None
     if not (isinstance(payload, tuple) and len(payload) == 3 and isinstance(payload[0], dict)):
         return None

@@ -7,12 +7,13 @@ module knows nothing of Flask or SQLAlchemy.
 """
 from __future__ import annotations
 
-from typing import Callable
+from collections.abc import Callable
 
 from schemas.specs import options_from, plug_spec, port_spec
 from service.fitment import check_fit
 from service.fitment.catalog import Catalog
 from service.fitment.model import FitResult
+from service.formats.drawing import render_fit_svg
 
 Lookup = Callable[[str], dict | None]
 
@@ -53,3 +54,16 @@ def resolve(request: dict, find_plug: Lookup, find_head: Lookup) -> tuple[dict, 
 def run_check(request: dict, catalog: Catalog, find_plug: Lookup, find_head: Lookup) -> FitResult:
     plug, head = resolve(request, find_plug, find_head)
     return check_fit(plug_spec(plug), port_spec(head), options_from(request.get("options")), catalog)
+
+
+def draw_check(request: dict, catalog: Catalog, find_plug: Lookup, find_head: Lookup,
+               units: str = "metric") -> str:
+    """The drawing for a loaded fit-check request: the one path the API and the CLI share.
+
+    References (`sku`, `head_id`) are resolved with the caller's look-ups; an unknown one
+    raises `UnknownReference`, as for the check itself.
+    """
+    plug, head = resolve(request, find_plug, find_head)
+    plug_data, port_data = plug_spec(plug), port_spec(head)
+    result = check_fit(plug_data, port_data, options_from(request.get("options")), catalog)
+    return render_fit_svg(plug_data, port_data, result, units, catalog=catalog)

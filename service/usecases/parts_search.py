@@ -30,8 +30,9 @@ geometry and the whole listing with a brute-force run of the engine over every p
 from __future__ import annotations
 
 import logging
+from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
-from typing import Any, Callable, Iterator, Sequence
+from typing import Any
 
 from sqlalchemy import ColumnElement, func, select
 from sqlalchemy.orm import Session
@@ -39,8 +40,7 @@ from sqlalchemy.orm import Session
 from schemas.specs import MAX_GASKET_MM
 from service.fitment import check_fit
 from service.fitment.catalog import HEX_MATCH_MM, Catalog
-from service.fitment.counter import (GROUP, PASS, WARN, RankKey, classify_position, fit_bounds,
-                                     position_of, rank_key_of)
+from service.fitment.counter import GROUP, PASS, WARN, RankKey, classify_position, fit_bounds, position_of, rank_key_of
 from service.fitment.interchange import Comparison, Tolerances, compare, position
 from service.fitment.model import Dim, FitResult, HeatRange, Options, PlugSpec, PortSpec
 from service.store.models import Plug
@@ -96,9 +96,11 @@ class PlugFilters:
     def admits(self, design: tuple) -> bool:
         if self.resistor is not None and design[RESISTOR] is not self.resistor:
             return False
-        if self.hex_mm is not None and (design[HEX] is None or abs(design[HEX] - self.hex_mm) > HEX_MATCH_MM):
-            return False
-        return True
+        return not (self.hex_mm is not None and (design[HEX] is None or abs(design[HEX] - self.hex_mm) > HEX_MATCH_MM))
+
+
+NO_FILTERS = PlugFilters()
+DEFAULT_TOLERANCES = Tolerances()
 
 
 def _designs(session: Session, clauses: list[ColumnElement], filters: PlugFilters) -> list[tuple[tuple, int]]:
@@ -142,7 +144,7 @@ def _plugs_of_designs(session: Session, row_sql: str, row_parameters: list[Any],
         arms, parameters = [], []
         for number, design in enumerate(chunk):
             conditions = []
-            for name, value in zip(_COLUMN_NAMES, design):
+            for name, value in zip(_COLUMN_NAMES, design, strict=False):
                 if value is None:
                     conditions.append(f"{name} IS NULL")
                 else:
@@ -231,7 +233,7 @@ class _Design:
 
 
 def fitting_plugs(session: Session, port: PortSpec, options: Options, catalog: Catalog, *,
-                  filters: PlugFilters = PlugFilters(), include: frozenset[str] = frozenset({PASS, WARN}),
+                  filters: PlugFilters = NO_FILTERS, include: frozenset[str] = frozenset({PASS, WARN}),
                   offset: int = 0, limit: int = 50) -> FitPage:
     """One page of the inventory plugs that fit `port`, best first (see the module doc)."""
     bounds = fit_bounds(port, options, catalog)
@@ -315,7 +317,7 @@ class InterchangePage:
 
 
 def interchanges(session: Session, original: PlugSpec, original_sku: str, catalog: Catalog, *,
-                 filters: PlugFilters = PlugFilters(), tolerances: Tolerances = Tolerances(),
+                 filters: PlugFilters = NO_FILTERS, tolerances: Tolerances = DEFAULT_TOLERANCES,
                  offset: int = 0, limit: int = 50) -> InterchangePage:
     """Inventory plugs that can replace `original`, closest first (see
     `service.fitment.interchange` for the rule and its tolerances)."""

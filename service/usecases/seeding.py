@@ -17,16 +17,16 @@ format (the import/export CSV) is added by registering its reader there.
 from __future__ import annotations
 
 import json
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Callable, Iterator
 
 from marshmallow import Schema, ValidationError
 from sqlalchemy.orm import Session
 
 from schemas.specs import StoredHeadSchema, StoredPlugSchema
-from service.store import repository
 from service.catalog_loader import load_catalog
+from service.store import repository
 
 DEMO_DIRECTORY = Path(__file__).resolve().parents[2] / "seed_catalog" / "demo"
 

@@ -12,9 +12,10 @@ never reaches here.
 """
 from __future__ import annotations
 
+from collections.abc import Callable, Iterator, Sequence
 from dataclasses import asdict, dataclass
 from types import SimpleNamespace
-from typing import Any, Callable, Iterator, Sequence
+from typing import Any
 
 from sqlalchemy import delete, insert, select
 from sqlalchemy.orm import Session

@@ -7,8 +7,9 @@ can build one for whatever PLUGFIT_DATABASE_URL says.
 from __future__ import annotations
 
 import logging
+from collections.abc import Mapping
 from importlib import import_module
-from typing import Any, Mapping
+from typing import Any
 
 from flask import Flask
 

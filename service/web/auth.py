@@ -11,16 +11,17 @@ from __future__ import annotations
 import hashlib
 import hmac
 import secrets
+from collections.abc import Callable
 from copy import deepcopy
 from dataclasses import dataclass
-from typing import Callable, TypeVar
+from typing import TypeVar
 
 from flask import Flask, current_app, g, request
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
-from service.web import problems
 from service.store.models import ApiKey
+from service.web import problems
 
 PUBLIC = "public"
 READ = "read"

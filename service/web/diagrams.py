@@ -11,13 +11,12 @@ from flask.views import MethodView
 
 from schemas.inventory import UnitsQuerySchema
 from schemas.specs import FitCheckRequestSchema
-from service.web import auth, problems
-from service.store import db, repository
-from service.web import examples
-from service.web.smorest import Blueprint
 from service.catalog_loader import load_catalog
+from service.store import db, repository
+from service.usecases import fit_check
 from service.usecases.fit_check import UnknownReference
-from service.formats.drawing import render_request_svg
+from service.web import auth, examples, problems
+from service.web.smorest import Blueprint
 
 SVG_MEDIA_TYPE = "image/svg+xml"
 # The start of an answer, for the OpenAPI document (a real drawing is a few hundred lines).
@@ -49,7 +48,7 @@ class FitCheckDiagram(MethodView):
         session = db.session()
         plugs, heads = repository.plugs(session), repository.heads(session)
         try:
-            svg = render_request_svg(request_document, load_catalog(), plugs.document, heads.document,
+            svg = fit_check.draw_check(request_document, load_catalog(), plugs.document, heads.document,
                                      query["units"])
         except UnknownReference as unknown:
             problems.abort(404, f"No {unknown.what} {unknown.identifier!r}.", errors=unknown.errors())

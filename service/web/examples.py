@@ -62,8 +62,8 @@ FIT_RESULT = {
     "analysis": {"thread_strength": {"safety_factor": {"value": 7.3774, "unit": ""}}},
     "torque": {"min": 25.0, "max": 30.0, "unit": "N*m", "turn_angle_deg": 180.0, "source": "common practice"},
     "assumptions": ["min_clearance not given: 1.5 mm used (common practice (about 0.060 in), from memory)"],
-    "cautions": ["Torque, clearance and gap values are guidance: the engine maker's service data, "
-                 "local regulations and licensed practice come first."],
+    "cautions": [("Torque, clearance and gap values are guidance: the engine maker's service data, "
+                 "local regulations and licensed practice come first.")],
     "engine_version": "1.0.0",
     "catalog_version": "fbcb0fa264fd",
 }

@@ -14,9 +14,9 @@ from flask import Response, request, stream_with_context
 from flask.views import MethodView
 
 from schemas.exchange import ImportQuerySchema, ImportReportSchema
+from service.formats import stock_file
 from service.store import db
 from service.usecases import stock
-from service.formats import stock_file
 from service.web import problems
 from service.web.smorest import Blueprint
 

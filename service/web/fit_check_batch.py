@@ -14,14 +14,21 @@ from flask.views import MethodView
 from webargs import core
 
 from schemas.batch import BatchQuerySchema, BatchRequestSchema, BatchResponseSchema
-from service.web import auth, problems
-from service.store import db
-from service.web.smorest import Blueprint
-from service.usecases.batch import collector_paused, run_batch
-from service.formats.build_list import (CSV_MEDIA_TYPES, BuildListError, NotJson, TooManyItems, decode, read_csv,
-                               read_json_text)
 from service.catalog_loader import load_catalog
+from service.formats.build_list import (
+    CSV_MEDIA_TYPES,
+    BuildListError,
+    NotJson,
+    TooManyItems,
+    decode,
+    read_csv,
+    read_json_text,
+)
+from service.store import db
 from service.store.references import fetch_documents
+from service.usecases.batch import collector_paused, run_batch
+from service.web import auth, problems
+from service.web.smorest import Blueprint
 
 blp = Blueprint("fit-check-batches", __name__, url_prefix="/v1/fit-checks",
                 description="Build lists: many checks in one request, from JSON or CSV, for CI.")
@@ -49,11 +56,11 @@ EXAMPLE_RESPONSE = {
          "geometry": {"piston_margin": {"nominal": 4.0, "min": 4.0, "max": 4.0, "rss_min": 4.0,
                                         "rss_max": 4.0, "unit": "mm"}},
          "analysis": {}, "torque": None, "assumptions": [], "cautions": [
-             "Torque, clearance and gap values are guidance: the engine maker's service data, local "
-             "regulations and licensed practice come first."],
+             ("Torque, clearance and gap values are guidance: the engine maker's service data, local "
+             "regulations and licensed practice come first.")],
          "engine_version": "1.0.0", "catalog_version": "0123456789ab", "waivers": []},
-        {"ref": "demo-twin-rear", "verdict": "invalid", "errors": {"plug": {"sku": ["no plug with sku "
-                                                                                    "'EXAMPLE-14F-19'"]}}},
+        {"ref": "demo-twin-rear", "verdict": "invalid", "errors": {"plug": {"sku": [("no plug with sku "
+                                                                                    "'EXAMPLE-14F-19'")]}}},
     ],
 }
 

@@ -11,12 +11,11 @@ from flask.views import MethodView
 from schemas.inventory import UnitsQuerySchema
 from schemas.results import FitResultSchema, result_document
 from schemas.specs import FitCheckRequestSchema
-from service.web import auth, problems
-from service.store import db, repository
-from service.web import examples
-from service.web.smorest import Blueprint
 from service.catalog_loader import load_catalog
+from service.store import db, repository
 from service.usecases.fit_check import UnknownReference, run_check
+from service.web import auth, examples, problems
+from service.web.smorest import Blueprint
 
 blp = Blueprint("fit-checks", __name__, url_prefix="/v1/fit-checks",
                 description="Does this plug fit this head port? Verdict, findings, geometry, torque guidance.")

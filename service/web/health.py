@@ -8,8 +8,8 @@ from flask.views import MethodView
 from sqlalchemy.exc import SQLAlchemyError
 
 from schemas.health import HealthSchema
-from service.web import auth, problems
 from service.store import db
+from service.web import auth, problems
 from service.web.smorest import Blueprint
 
 blp = Blueprint("health", __name__, url_prefix="/v1/health", description="Is the service up and its database reachable?")

@@ -5,14 +5,14 @@ path parameter), and call `history_page` here.
 """
 from __future__ import annotations
 
-from datetime import timezone
+from datetime import UTC
 from typing import Any
 
 from flask_smorest.pagination import PaginationParameters
 
 from service.store import db, history, repository
-from service.web import examples, records
 from service.store.models import ChangeRecord
+from service.web import examples, records
 
 
 def _example(record: dict[str, Any], changed_field: str, new_value: Any) -> list[dict[str, Any]]:
@@ -35,8 +35,8 @@ HEAD_EXAMPLE = _example(examples.HEAD, "description", "Example aluminium head, r
 def entry_document(row: ChangeRecord) -> dict[str, Any]:
     changed_at = row.changed_at
     # SQLite hands back naive datetimes (written in UTC); PostgreSQL aware ones.
-    changed_at = changed_at.replace(tzinfo=timezone.utc) if changed_at.tzinfo is None \
-        else changed_at.astimezone(timezone.utc)
+    changed_at = changed_at.replace(tzinfo=UTC) if changed_at.tzinfo is None \
+        else changed_at.astimezone(UTC)
     return {"id": row.id, "action": row.action, "actor": row.actor, "source": row.source,
             "changed_at": changed_at, "version_before": row.version_before,
             "version_after": row.version_after, "before": row.before, "after": row.after}

@@ -14,14 +14,14 @@ from sqlalchemy import select
 from schemas.counter import FittingPlugSchema, FittingPlugsQuerySchema, InterchangeQuerySchema, InterchangeSchema
 from schemas.results import result_document
 from schemas.specs import StoredPlugSchema, options_from, plug_spec, port_spec
-from service.usecases import parts_search
-from service.store import db, repository
-from service.web import examples, records
-from service.web.smorest import Blueprint
 from service.catalog_loader import load_catalog
 from service.fitment.interchange import THREAD_END_TOLERANCE_MM, TIP_TOLERANCE_MM, Tolerances
+from service.store import db, repository
 from service.store.models import Plug
 from service.units import from_canonical, output_unit
+from service.usecases import parts_search
+from service.web import examples, records
+from service.web.smorest import Blueprint
 
 blp = Blueprint("parts-counter", __name__, url_prefix="/v1",
                 description="What fits this head, and what can replace this plug, from the shop's own stock.")
@@ -36,9 +36,9 @@ EXAMPLE_FITTING = [{
                                                   "rss_max": 0.19, "unit": "mm"}},
                "analysis": {}, "torque": {"min": 25.0, "max": 30.0, "unit": "N*m", "turn_angle_deg": 180.0,
                                           "source": "common practice"},
-               "assumptions": [], "cautions": ["Torque, clearance and gap values are guidance: the engine "
+               "assumptions": [], "cautions": [("Torque, clearance and gap values are guidance: the engine "
                                                "maker's service data, local regulations and licensed practice "
-                                               "come first."],
+                                               "come first.")],
                "engine_version": "1.0.0", "catalog_version": "0123456789ab"},
 }]
 EXAMPLE_INTERCHANGE = [{

@@ -3,10 +3,10 @@ from __future__ import annotations
 
 from flask.views import MethodView
 
+from schemas.history import ChangeSchema, HistoryQuerySchema
 from schemas.inventory import PlugFilterSchema, PlugReplacementSchema
 from schemas.specs import StoredPlugSchema
 from service.store import db, repository
-from schemas.history import ChangeSchema, HistoryQuerySchema
 from service.web import examples, history_pages, records
 from service.web.smorest import Blueprint
 

@@ -8,8 +8,9 @@ problem document, so views declare one success schema and nothing else.
 from __future__ import annotations
 
 import logging
+from collections.abc import Mapping
 from http import HTTPStatus
-from typing import Any, Mapping, NoReturn
+from typing import Any, NoReturn
 
 from flask import Flask, Response, current_app, json
 from sqlalchemy.exc import OperationalError

@@ -3,7 +3,7 @@ contract's status codes (201 + Location, 409 on a taken identifier, 412 on a sta
 If-Match), ETags from the row's version, and Last-Modified."""
 from __future__ import annotations
 
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from email.utils import format_datetime
 from typing import Any
 
@@ -11,9 +11,9 @@ from flask import request, url_for
 from sqlalchemy.orm.exc import StaleDataError
 
 from service.store import history
+from service.store.repository import DuplicateIdentifier, Repository
 from service.web import problems
 from service.web.smorest import Blueprint
-from service.store.repository import DuplicateIdentifier, Repository
 
 
 def etag_data(row: Any, key: str) -> list[Any]:
@@ -25,8 +25,8 @@ def etag_data(row: Any, key: str) -> list[Any]:
 def _utc(stamp: datetime) -> datetime:
     """SQLite hands back naive datetimes (written in UTC); PostgreSQL aware ones."""
     if stamp.tzinfo is None:
-        return stamp.replace(tzinfo=timezone.utc)
-    return stamp.astimezone(timezone.utc)
+        return stamp.replace(tzinfo=UTC)
+    return stamp.astimezone(UTC)
 
 
 def last_modified(row: Any) -> dict[str, str]:

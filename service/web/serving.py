@@ -24,7 +24,8 @@ one database behind a load balancer.
 from __future__ import annotations
 
 import os
-from typing import Any, Mapping
+from collections.abc import Mapping
+from typing import Any
 
 from service import config
 

@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import http
 from functools import wraps
-from typing import Any
+from typing import Any, ClassVar
 
 import flask_smorest
 from flask import current_app, request
@@ -52,7 +52,7 @@ class Api(flask_smorest.Api):
 
     ERROR_SCHEMA = ProblemSchema
 
-    def handle_http_exception(self, error):  # noqa: D102 - see service.web.problems
+    def handle_http_exception(self, error):
         return problems.handle_http_exception(error)
 
     def _register_responses(self) -> None:
@@ -80,7 +80,7 @@ class Api(flask_smorest.Api):
 
 class Blueprint(flask_smorest.Blueprint):
     ARGUMENTS_PARSER = JsonBodyParser()
-    DEFAULT_PAGINATION_PARAMETERS = {"page": 1, "page_size": 50, "max_page_size": CONTRACT_MAX_PAGE_SIZE}
+    DEFAULT_PAGINATION_PARAMETERS: ClassVar[dict[str, int]] = {"page": 1, "page_size": 50, "max_page_size": CONTRACT_MAX_PAGE_SIZE}
 
     def __init__(self, *args: Any, **kwargs: Any) -> None:
         super().__init__(*args, **kwargs)

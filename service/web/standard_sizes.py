@@ -9,8 +9,8 @@ from flask import jsonify
 from flask.views import MethodView
 
 from schemas.standard_sizes import StandardSizesSchema
-from service.web.smorest import Blueprint
 from service.catalog_loader import catalog_as_document, load_catalog
+from service.web.smorest import Blueprint
 
 blp = Blueprint("standard-sizes", __name__, url_prefix="/v1/standard-sizes",
                 description="Standard thread, seat, reach and hex families with torque guidance and sources.")
@@ -18,8 +18,8 @@ blp = Blueprint("standard-sizes", __name__, url_prefix="/v1/standard-sizes",
 _EXAMPLE = {
     "catalog_version": "fbcb0fa264fd",
     "threads": [], "hexes": [], "hex_families": [], "torque": [], "sources": {},
-    "cautions": ["Torque values and turn angles are guidance. The engine maker's service data, "
-                 "local regulations and licensed practice come first."],
+    "cautions": [("Torque values and turn angles are guidance. The engine maker's service data, "
+                 "local regulations and licensed practice come first.")],
 }
 
 

@@ -7,9 +7,9 @@ from pathlib import Path
 
 import pytest
 
-from service.web import create_app
-from service.store import db
 from service.config import MIB, SettingError, from_environment, load_settings
+from service.store import db
+from service.web import create_app
 
 REPO = Path(__file__).resolve().parents[2]
 

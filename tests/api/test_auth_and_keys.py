@@ -7,9 +7,9 @@ import pytest
 from sqlalchemy import select
 
 from schemas.problem import PROBLEM_MEDIA_TYPE
-from service.web import create_app
 from service.store import db
 from service.store.models import ApiKey
+from service.web import create_app
 
 
 @pytest.fixture

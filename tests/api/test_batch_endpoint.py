@@ -6,8 +6,8 @@ import pytest
 from sqlalchemy import event
 
 from schemas.batch import BatchResponseSchema
-from service.web import create_app
 from service.store import db
+from service.web import create_app
 
 URL = "/v1/fit-checks/batch"
 # The contract's flush fit (fit-check-contract.md, "Geometry"): protrusion 19.0 − 1.5 −

@@ -8,9 +8,9 @@ from pathlib import Path
 import pytest
 import requests
 
-from service.usecases import batch
-from service.formats.build_list import read_csv
 from service.catalog_loader import load_catalog
+from service.formats.build_list import read_csv
+from service.usecases import batch
 from tests.live_server import running_server
 
 pytestmark = pytest.mark.server

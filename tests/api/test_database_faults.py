@@ -14,8 +14,8 @@ from sqlalchemy import text
 from sqlalchemy.engine import make_url
 
 from schemas.problem import PROBLEM_MEDIA_TYPE
-from service.web import create_app
 from service.store import db
+from service.web import create_app
 from tests import postgres
 
 UNAVAILABLE = "tag:plugfit,2025:problem/database-unavailable"

@@ -93,8 +93,8 @@ def test_a_check_is_a_read_so_it_needs_no_key(client):
 
 
 def test_when_reads_need_a_key_a_check_without_one_is_a_401(database_url, api_key):
-    from service.web import create_app
     from service.store import db
+    from service.web import create_app
 
     app = create_app({"TESTING": True, "DATABASE_URL": database_url, "REQUIRE_KEY_FOR_READS": True})
     try:

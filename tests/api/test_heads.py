@@ -5,7 +5,6 @@ import pytest
 
 from tests.api.problems import problem
 
-
 HEAD = {
     "head_id": "T-TWIN-1",
     "description": "Test twin, aluminium, M14 flat port",

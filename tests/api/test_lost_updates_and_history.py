@@ -7,8 +7,8 @@ import pytest
 from sqlalchemy import text
 from sqlalchemy.exc import DatabaseError
 
-from service.web import create_app
 from service.store import db, repository
+from service.web import create_app
 from service.web.auth import create_key
 from tests.api.problems import problem
 
@@ -176,9 +176,8 @@ def test_a_record_with_no_recorded_change_has_an_empty_history(app, client):
 def test_the_database_itself_refuses_to_rewrite_history(app, client, auth, statement):
     client.post("/v1/plugs", json=PLUG, headers=auth)
     engine = db.get_database(app).engine
-    with pytest.raises(DatabaseError, match="append-only"):
-        with engine.begin() as connection:
-            connection.execute(text(statement))
+    with pytest.raises(DatabaseError, match="append-only"), engine.begin() as connection:
+        connection.execute(text(statement))
     assert history(client, f"/v1/plugs/{PLUG['sku']}")[0]["actor"] == "test-suite"
 
 

@@ -7,7 +7,6 @@ import pytest
 
 from tests.api.problems import problem
 
-
 PLUG = {
     "sku": "T-14F-19",
     "description": "test line, M14 flat",
@@ -228,8 +227,8 @@ def test_a_page_size_over_1000_is_a_422(client):
 
 
 def test_the_operator_may_lower_the_page_size_limit(database_url):
-    from service.web import create_app
     from service.store import db
+    from service.web import create_app
 
     app = create_app({"TESTING": True, "DATABASE_URL": database_url, "MAX_PAGE_SIZE": 20})
     try:

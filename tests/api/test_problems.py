@@ -6,8 +6,8 @@ import json
 import pytest
 
 from schemas.problem import PROBLEM_MEDIA_TYPE
-from service.web import create_app
 from service.store import db
+from service.web import create_app
 from tests.api.openapi_validation import resolve, response_schema, violations
 
 

@@ -14,9 +14,9 @@ import shlex
 import shutil
 import subprocess
 import sys
+from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Iterator
 
 import pytest
 import requests
@@ -81,7 +81,7 @@ def _complete(command: str) -> bool:
 def readme_curl_examples(text: str) -> list[CurlExample]:
     """The `curl` commands of the ```sh blocks, each with the `# → NNN` line after it."""
     examples: list[CurlExample] = []
-    for block in re.finditer(r"```sh\n(.*?)```", text, re.S):
+    for block in re.finditer(r"```sh\n(.*?)```", text, re.DOTALL):
         first_line = text[: block.start()].count("\n") + 2
         lines = block.group(1).splitlines()
         index = 0

@@ -9,8 +9,8 @@ from sqlalchemy.exc import OperationalError
 
 from schemas.problem import PROBLEM_MEDIA_TYPE
 from schemas.standard_sizes import StandardSizesSchema
-from service.store import db
 from service.catalog_loader import load_catalog
+from service.store import db
 from service.web.request_log import REQUEST_LOGGER, JsonLineFormatter
 
 

@@ -10,10 +10,10 @@ import time
 
 import pytest
 
+from service.catalog_loader import load_catalog
+from service.formats.build_list import read_csv, read_json_document
 from service.usecases import batch
 from service.usecases.batch import run_batch
-from service.formats.build_list import read_csv, read_json_document
-from service.catalog_loader import load_catalog
 
 # The contract's flush fit (fit-check-contract.md, "Geometry"): 19.0 − 1.5 = 17.5 mm =
 # port depth, so it passes with a 4.0 mm piston margin; a 26.5 mm reach in the same port

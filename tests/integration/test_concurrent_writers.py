@@ -14,9 +14,9 @@ from collections import Counter
 import pytest
 from sqlalchemy import func, select
 
-from service.web import create_app
 from service.store import db
 from service.store.models import ChangeRecord, Plug
+from service.web import create_app
 
 PROCESSES = 4
 THREADS = 4

@@ -7,13 +7,13 @@ import pytest
 from sqlalchemy import insert, select
 
 from schemas.specs import options_from, plug_spec, port_spec
-from service.usecases import parts_search, seeding
-from service.store import db, repository
 from service.catalog_loader import load_catalog
 from service.fitment import check_fit
 from service.fitment.counter import GROUP, result_rank_key
 from service.fitment.interchange import Tolerances, compare
+from service.store import db, repository
 from service.store.models import Head, Plug
+from service.usecases import parts_search, seeding
 
 # Odd plugs the demo shop lacks: no firing end, no reach, no gasket given, a hex that is
 # no catalogue size, tolerances wide enough to straddle every bound. Invented.

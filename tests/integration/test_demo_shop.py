@@ -7,11 +7,11 @@ import pytest
 from sqlalchemy import func, select
 
 from schemas.specs import options_from, plug_spec, port_spec
-from service.store import db, repository
-from service.usecases import seeding
 from service.catalog_loader import load_catalog
 from service.fitment import check_fit
+from service.store import db, repository
 from service.store.models import Head, Plug
+from service.usecases import seeding
 
 # The stable finding codes: the fit-check contract's table
 # (shared/product/fit-check-contract.md, "Finding codes") plus the four deeper checks of

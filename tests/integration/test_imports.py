@@ -6,10 +6,10 @@ import io
 import pytest
 from sqlalchemy import select
 
-from service.store import db
-from service.usecases import seeding, stock
 from service.formats import stock_file
+from service.store import db
 from service.store.models import Plug
+from service.usecases import seeding, stock
 
 PLUGS = stock_file.plug_format()
 

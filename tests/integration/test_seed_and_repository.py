@@ -7,10 +7,10 @@ import pytest
 from sqlalchemy import func, select
 
 from schemas.specs import StoredHeadSchema, StoredPlugSchema
-from service.store import db, repository
-from service.usecases import seeding
 from service.fitment.model import Dim
+from service.store import db, repository
 from service.store.models import Head, Plug
+from service.usecases import seeding
 
 DEMO_PLUGS = [
     {"sku": "DEMO-1", "description": "demo data (invented)", "thread": "M14x1.25", "seat": "flat",
@@ -68,9 +68,8 @@ def test_a_changed_demo_record_is_replaced_in_place(app, demo_directory):
 
 def test_a_bad_demo_line_stops_the_seed_and_writes_nothing(app, demo_directory):
     (demo_directory / "heads.jsonl").write_text(json.dumps({**DEMO_HEADS[0], "port_depth": "3 kg"}) + "\n")
-    with db.unit_of_work(app) as session:
-        with pytest.raises(seeding.SeedError, match="heads.jsonl line 1"):
-            seeding.seed_demo(session, demo_directory)
+    with db.unit_of_work(app) as session, pytest.raises(seeding.SeedError, match="heads.jsonl line 1"):
+        seeding.seed_demo(session, demo_directory)
     with db.unit_of_work(app) as session:
         assert session.scalar(select(func.count()).select_from(Plug)) == 0
 

@@ -241,8 +241,8 @@ def test_a_long_list_checked_by_the_installed_command_over_two_processes_reads_a
                                                                                            monkeypatch):
     """2,400 lines: long enough for `plugfit validate` to check half in a helper process
     (service.usecases.batch.MIN_ITEMS_TO_SPLIT); its JSON must equal a run in one process."""
-    from service.usecases import batch
     from service.formats.build_list import read_csv
+    from service.usecases import batch
 
     assert batch.MIN_ITEMS_TO_SPLIT <= 2400
     # FLUSH, LONG_ROOMY and HITS_PISTON with every plug and head a few micrometres

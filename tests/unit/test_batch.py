@@ -11,8 +11,8 @@ from marshmallow import ValidationError
 
 from schemas.batch import BatchResponseSchema
 from schemas.specs import HeadInputSchema, OptionsSchema, PlugInputSchema, StoredHeadSchema, StoredPlugSchema
-from service.usecases.batch import _schema_for, run_batch
 from service.formats.build_list import BuildListError, read_csv, read_json_document
+from service.usecases.batch import _schema_for, run_batch
 
 # The contract's flush fit (fit-check-contract.md, "Geometry"): thread end e = 19.0 − 1.5
 # = 17.5 mm = port depth, so the protrusion is 0.0 mm; tip t = 17.5 + 4.0 = 21.5 mm;
@@ -223,12 +223,11 @@ def test_the_collector_is_paused_during_a_batch_and_back_on_after_even_when_nest
     from service.usecases.batch import collector_paused
 
     assert gc.isenabled()
-    with pytest.raises(RuntimeError):
+    with pytest.raises(RuntimeError), collector_paused():
         with collector_paused():
-            with collector_paused():
-                assert not gc.isenabled()
-            assert not gc.isenabled()  # the outer batch is still running
-            raise RuntimeError("a batch that fails")
+            assert not gc.isenabled()
+        assert not gc.isenabled()  # the outer batch is still running
+        raise RuntimeError("a batch that fails")
     assert gc.isenabled()
 
 

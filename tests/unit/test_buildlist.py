@@ -6,8 +6,18 @@ import json
 
 import pytest
 
-from service.formats.build_list import (BuildListError, NotJson, TooManyItems, decode, errors_by_column, field_specs,
-                               item_from_cells, read_build_list, read_csv, read_json_text)
+from service.formats.build_list import (
+    BuildListError,
+    NotJson,
+    TooManyItems,
+    decode,
+    errors_by_column,
+    field_specs,
+    item_from_cells,
+    read_build_list,
+    read_csv,
+    read_json_text,
+)
 
 HEADER = "ref,plug_thread,plug_seat,plug_reach_mm,head_thread,head_seat,head_port_depth_mm\n"
 
@@ -138,7 +148,7 @@ def test_a_file_that_cannot_be_a_build_list_is_refused_with_a_reason(text, messa
 
 def test_bytes_that_are_not_utf8_are_refused_naming_the_line():
     with pytest.raises(BuildListError) as caught:
-        decode("plug_thread\nM14\n".encode() + b"\xff\xfe")
+        decode(b"plug_thread\nM14\n" + b"\xff\xfe")
     assert caught.value.problems[0].line == 3
 
 

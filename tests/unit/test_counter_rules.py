@@ -6,8 +6,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from service.fitment import check_fit
-from service.fitment.counter import (FAIL, PASS, WARN, RankKey, classify, fit_bounds, rank, rank_key,
-                                     result_rank_key)
+from service.fitment.counter import FAIL, PASS, WARN, RankKey, classify, fit_bounds, rank, rank_key, result_rank_key
 from service.fitment.interchange import TIP_TOLERANCE_MM, Tolerances, compare
 from service.fitment.model import Dim, HeatRange, HeatRangeBand, Options, PlugSpec, PortSpec, Span
 
@@ -20,8 +19,8 @@ def lengths(low: float, high: float):
 
 
 tolerances = st.sampled_from([0.0, 0.05, 0.1, 0.15, 0.2, 0.254, 0.3])
-dims = lambda low, high: st.tuples(lengths(low, high), tolerances, tolerances).map(lambda t: Dim(*t))  # noqa: E731
-optional = lambda strategy: st.one_of(st.none(), strategy)  # noqa: E731
+dims = lambda low, high: st.tuples(lengths(low, high), tolerances, tolerances).map(lambda t: Dim(*t))
+optional = lambda strategy: st.one_of(st.none(), strategy)
 
 seats = st.sampled_from(["flat", "conical"])
 hexes = st.sampled_from([None, 14.0, 15.875, 16.0, 16.1, 18.0, 20.8, 20.6375, 22.225, 13.0])

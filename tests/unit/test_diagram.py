@@ -10,10 +10,10 @@ import xml.etree.ElementTree as ET
 import cairosvg
 import pytest
 
-from service.formats.drawing import render_fit_svg
 from service.fitment import check_fit
 from service.fitment.catalog import Catalog, ThreadSize
 from service.fitment.model import Dim, Options, PlugSpec, PortSpec
+from service.formats.drawing import render_fit_svg
 
 SVG = "{http://www.w3.org/2000/svg}"
 

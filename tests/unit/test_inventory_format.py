@@ -5,8 +5,8 @@ import io
 
 import pytest
 
-from service.formats import stock_file
 from service.fitment.model import Dim
+from service.formats import stock_file
 
 PLUGS = stock_file.plug_format()
 HEADS = stock_file.head_format()

@@ -5,9 +5,9 @@ import xml.etree.ElementTree as ET
 
 import pytest
 
-from service.usecases.batch import run_batch
 from service.formats.build_list import read_csv
 from service.formats.reports import error_lines, exit_code, junit_report, result_text, text_report
+from service.usecases.batch import run_batch
 
 # Contract geometry (fit-check-contract.md): 19.0 reach, 1.5 gasket, 17.5 port depth →
 # flush; 26.5 reach → 7.5 mm protrusion (REACH_LONG, warn); 8.0 mm piston clearance

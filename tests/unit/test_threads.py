@@ -77,7 +77,7 @@ def test_6g_6H_limits_agree_with_iso_965_1(d, pitch, major, pitch_ext, pitch_int
         (limits.internal_pitch_min_mm, limits.internal_pitch_max_mm),
         (limits.internal_minor_min_mm, limits.internal_minor_max_mm),
     ]
-    for got_pair, want_pair in zip(got, [major, pitch_ext, pitch_int, minor_int]):
+    for got_pair, want_pair in zip(got, [major, pitch_ext, pitch_int, minor_int], strict=False):
         assert got_pair == pytest.approx(want_pair, abs=TABLE_TOLERANCE_MM)
 
 
