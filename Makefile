@@ -8,24 +8,35 @@ PYTHON ?= $(shell for candidate in python3 python3.13 python3.12 python3.11; do 
               command -v $$candidate; break; fi; done)
 VENV   := .venv
 BIN    := $(VENV)/bin
+# Two stamps: `make run` installs the service's runtime dependencies only; `make test`
+# adds the test extras (scientific and fuzzing libraries, linters).
 STAMP  := $(VENV)/.installed
+TEST_STAMP := $(VENV)/.installed-test
 HOST   ?= 127.0.0.1
 PORT   ?= 8000
 # The PostgreSQL server of the second test run (needs CREATE DATABASE rights; the run
 # makes and drops a scratch database of its own). REQUIRE_POSTGRES=1 makes its absence fatal.
 POSTGRES_URL ?= postgresql+psycopg://postgres@127.0.0.1:5432/postgres
 
-.PHONY: run test test-sqlite test-postgres venv migrate seed serve bench bench-load
+.PHONY: run test test-sqlite test-postgres lint venv venv-test migrate seed serve bench bench-load
 
-## Set up the virtual environment (again only when pyproject.toml changed).
+## Set up the virtual environment with the runtime dependencies (again only when
+## pyproject.toml changed).
 venv: $(STAMP)
 
 $(STAMP): pyproject.toml
 	@test -n "$(PYTHON)" || { echo "plugfit needs Python 3.11 or newer; set PYTHON=/path/to/python3.11" >&2; exit 1; }
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
 	$(BIN)/python -m pip install --quiet --upgrade pip
-	$(BIN)/python -m pip install --quiet -e '.[test]'
+	$(BIN)/python -m pip install --quiet -e .
 	touch $(STAMP)
+
+## The same environment plus the test extras.
+venv-test: $(TEST_STAMP)
+
+$(TEST_STAMP): $(STAMP)
+	$(BIN)/python -m pip install --quiet -e '.[test]'
+	touch $(TEST_STAMP)
 
 ## Set up, migrate, seed (with the demo shop) and serve on http://$(HOST):$(PORT).
 run: venv migrate seed serve
@@ -41,7 +52,7 @@ serve: venv
 
 ## The whole test suite on SQLite, then the database layers again on PostgreSQL when a
 ## server answers at POSTGRES_URL (otherwise it says clearly that this part was skipped).
-test: test-sqlite
+test: lint test-sqlite
 	@if $(BIN)/python -m tests.postgres reachable '$(POSTGRES_URL)'; then \
 	  $(MAKE) --no-print-directory test-postgres; \
 	elif [ -n "$(REQUIRE_POSTGRES)" ]; then \
@@ -51,17 +62,24 @@ test: test-sqlite
 	  echo "*** Only SQLite was tested. Set POSTGRES_URL=postgresql+psycopg://USER@HOST:PORT/DB to include it."; \
 	fi
 
-test-sqlite: venv
+test-sqlite: venv-test
 	$(BIN)/python -m pytest
 
+## Habits: ruff (default rules, import sorting, pyupgrade, bugbear), mypy --strict on the
+## engine, and the layering contracts (import-linter; see pyproject.toml).
+lint: venv-test
+	$(BIN)/ruff check .
+	$(BIN)/mypy service/fitment
+	$(BIN)/lint-imports
+
 ## The database layers (tests/integration, tests/api, real servers included) on PostgreSQL.
-test-postgres: venv
+test-postgres: venv-test
 	PLUGFIT_TEST_POSTGRES_URL='$(POSTGRES_URL)' $(BIN)/python -m pytest tests/integration tests/api
 
 ## The engine benchmark (pytest-benchmark; benchmarks/bench_engine.py). Not part of `make test`.
-bench: venv
+bench: venv-test
 	$(BIN)/python -m pytest benchmarks/bench_engine.py --benchmark-only -p no:cacheprovider -s
 
 ## Load benchmark over loopback (see benchmarks/bench_load.py; uses wrk when installed).
-bench-load: venv
+bench-load: venv-test
 	$(BIN)/python benchmarks/bench_load.py
