@@ -6,7 +6,7 @@ Run:  .venv/bin/python benchmarks/bench_batch.py [--lines 10000] [--repeat 5]
 Goals (issue 4): the batch endpoint checks a 10,000-line list with inline dimensions
 in at most 1 s of server time; `plugfit validate` embedded in at most 2 s wall, on the
 project's 2-core machine. Not a test: it prints figures (best and median of the runs)
-for the README.
+for docs/performance.md.
 
 Two lists, both DEMO DATA (an invented fleet workshop; no real engine or part):
 

@@ -4,7 +4,7 @@ Run:  .venv/bin/python benchmarks/bench_counter.py [--plugs 100000] [--designs 5
 
 Goal (issue 5): on SQLite, measured over HTTP against a real server, each endpoint
 answers in at most 50 ms median with 100,000 plugs. Not a test (timings vary by
-machine); the figures measured on the project's 2-core machine are in the README.
+machine); the figures measured on the project's 2-core machine are in docs/performance.md.
 
 What it does: makes a temporary SQLite database (`plugfit db upgrade`), loads the demo
 shop's heads, generates the plugs (below) straight into the table, starts `plugfit serve`

@@ -2,7 +2,7 @@
 
 Run: make bench (.venv/bin/pytest benchmarks/bench_engine.py --benchmark-only -p no:cacheprovider -s)
 Goal (issue 2): at least 100,000 plug/port pairs per second on one core with plain-float
-inputs. The figures measured on the project's 2-core machine are in the README.
+inputs. The figures measured on the project's 2-core machine are in docs/performance.md.
 """
 from __future__ import annotations
 

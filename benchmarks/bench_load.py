@@ -4,7 +4,7 @@ Run:  .venv/bin/python benchmarks/bench_load.py            (starts its own serve
       .venv/bin/python benchmarks/bench_load.py --url http://127.0.0.1:8000
 Goal (issue 6): at 32 concurrent connections, single-check throughput at least 70% of
 the same server's /v1/health throughput, p99 latency under 50 ms, zero errors.
-The figures measured on the project's 2-core machine are in the README.
+The figures measured on the project's 2-core machine are in docs/performance.md.
 
 Load generator: wrk when it is on the PATH (Debian package `wrk`: `apt-get install -y
 wrk`; it is optional and CI never runs this script), else a bounded Python generator

@@ -240,7 +240,7 @@ class HeadInputSchema(PortDimensionsSchema):
 
 
 class OptionsSchema(Schema):
-    """Check options; each default is listed in the README and, when applied, in the
+    """Check options; each default is listed in docs/engineering.md and, when applied, in the
     result's assumptions."""
 
     class Meta:

@@ -198,7 +198,7 @@ GASKETS = {"M8x1": 1.0, "M10x1": 1.0, "M12x1.25": 1.0, "M14x1.25": 1.5, "M18x1.5
 # Seat to terminal top, by reach (invented, in the range real plugs show).
 TERMINAL_BASE = {"M8x1": 40.0, "M10x1": 44.0, "M12x1.25": 50.0, "M14x1.25": 48.0, "M18x1.5": 55.0}
 
-# Hand-placed lines that the README and the example checks name; the generator adds
+# Hand-placed lines that the documentation and the example checks name; the generator adds
 # more around them. (sku, thread, seat, reach, tip, hex, resistor, heat, gap, terminal)
 FEATURED = [
     ("DEMO-14F-190-SR6", "M14x1.25", "flat", 19.0, "S", 16.0, True, 6, 0.8, 53.5),

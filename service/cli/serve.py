@@ -48,7 +48,7 @@ def command(app: Flask, host: str | None, port: int | None, workers: int | None,
     """Serve the API with gunicorn (default http://127.0.0.1:8000).
 
     Other server settings (timeouts, keep-alive, worker recycling) come from PLUGFIT_*
-    variables; see service/web/serving.py and the README."""
+    variables; see service/web/serving.py and docs/operations.md."""
     bind = serving.server_settings()["BIND"]
     if host is not None or port is not None:
         bind_host, _, bind_port = bind.rpartition(":")

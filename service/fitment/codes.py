@@ -1,5 +1,5 @@
 """The finding codes clients switch on: stable names, each with the check that raises it
-and its severity. The OpenAPI document's enum and the README's table are tested against
+and its severity. The OpenAPI document's enum and docs/engineering.md's table are tested against
 this list, so a new check cannot ship an undocumented code."""
 from __future__ import annotations
 

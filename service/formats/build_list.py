@@ -309,7 +309,7 @@ def _understand_header(name: str, specs: dict[str, FieldSpec]) -> Column:
     candidates = [field_name for field_name in specs if key.startswith(field_name + "_")]
     if not candidates:
         close = difflib.get_close_matches(key, column_names(), n=3, cutoff=0.6)
-        hint = f"; did you mean {' or '.join(close)}?" if close else "; see the README for the columns"
+        hint = f"; did you mean {' or '.join(close)}?" if close else "; see docs/build-lists.md for the columns"
         raise ValueError(f"unknown column{hint}")
     field_name = max(candidates, key=len)
     spec = specs[field_name]

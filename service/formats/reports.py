@@ -31,7 +31,7 @@ def failing_verdicts(fail_on: str) -> frozenset[str]:
 
 
 def exit_code(answer: dict[str, Any], fail_on: str) -> int:
-    """0 when no line fails under the policy, 1 otherwise (see the README's exit codes)."""
+    """0 when no line fails under the policy, 1 otherwise (see the exit codes in docs/build-lists.md)."""
     failing = failing_verdicts(fail_on)
     return 1 if any(result["verdict"] in failing for result in answer["results"]) else 0
 

@@ -1,4 +1,4 @@
-"""Example documents for the OpenAPI file and the README.
+"""Example documents for the OpenAPI file and the documentation.
 
 Invented example records (EXAMPLE-* identifiers), not catalogue data: the sizes are the
 standard M14x1.25 flat-seat family (see seed_catalog/), the rest is made up to show the

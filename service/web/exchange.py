@@ -42,7 +42,7 @@ EXAMPLE_REPORT = {"resource": "plugs", "mode": "upsert", "rows": 1, "added": 1, 
 def _request_body(resource: str) -> dict[str, Any]:
     return {
         "required": True,
-        "description": f"The {resource} file: CSV with a header row (columns in the README, section "
+        "description": f"The {resource} file: CSV with a header row (columns in docs/parts-counter.md, section "
                        "'Inventory exchange'; an export is a valid import), or JSON lines with one "
                        f"{resource[:-1]} object per line in the same shape as the REST API's. UTF-8.",
         "content": {

@@ -67,7 +67,7 @@ EXAMPLE_RESPONSE = {
 _REQUEST_BODY = {
     "required": True,
     "description": "The build list: the JSON document below, or CSV (`Content-Type: text/csv`) with a "
-                   "header row and one line per check; the CSV columns are listed in the README "
+                   "header row and one line per check; the CSV columns are listed in docs/build-lists.md "
                    "(section 'Build lists'). At most PLUGFIT_MAX_BATCH_ITEMS items (default 50,000).",
     "content": {
         "application/json": {"schema": BatchRequestSchema, "example": EXAMPLE_REQUEST},

@@ -6,7 +6,7 @@ CPU in Python (the GIL lets one thread compute at a time) and its database reads
 well under a millisecond, so threads add switching, not throughput; the spare worker
 keeps the cores busy while one waits on the database. On the project's 2-core machine
 2, 3 and 5 sync workers measured within a few per cent of each other, gthread mixes
-no better (benchmarks/bench_load.py; the figures are in the README).
+no better (benchmarks/bench_load.py; the figures are in docs/performance.md).
 
 PLUGFIT_THREADS above 1 selects gthread workers: worth it when the database is remote
 (PostgreSQL over a network), where a request waits on I/O, or when clients keep

@@ -1,5 +1,5 @@
 """The finding codes are a contract: every code the checks can raise is registered,
-documented in the README's table and in the OpenAPI enum, with the same severity."""
+documented in docs/engineering.md's table and in the OpenAPI enum, with the same severity."""
 from __future__ import annotations
 
 import re
@@ -12,8 +12,8 @@ from service.fitment.codes import FINDING_CODES
 REPO = Path(__file__).resolve().parents[2]
 
 
-def _readme_table() -> dict[str, tuple[str, str]]:
-    text = (REPO / "README.md").read_text()
+def _documented_table() -> dict[str, tuple[str, str]]:
+    text = (REPO / "docs" / "engineering.md").read_text()
     section = text[text.index("## Finding codes"):]
     section = section[:section.index("\n## ", 3)]
     rows = re.findall(r"^\| `([A-Z_]+)` \| ([a-z_]+) \| ([a-z]+)", section, re.MULTILINE)
@@ -26,8 +26,8 @@ def test_every_code_the_checks_raise_is_registered():
     assert raised <= set(FINDING_CODES), raised - set(FINDING_CODES)
 
 
-def test_the_readme_table_lists_every_registered_code_with_its_check_and_severity():
-    assert _readme_table() == FINDING_CODES
+def test_the_documented_table_lists_every_registered_code_with_its_check_and_severity():
+    assert _documented_table() == FINDING_CODES
 
 
 def test_the_openapi_enum_is_the_registry():
