@@ -17,12 +17,13 @@ thread and seat, their distinct designs, designs the engine checked).
 
 The plugs: INVENTED benchmark data in the demo shop's style. Every thread and seat of
 the catalogue with its standard reaches; five tip styles; the thread's hexes; resistor
-or not; three terminal heights; heat 2-10 on the demo scale; eight gaps. `--designs`
-distinct designs are drawn from that space and the plugs spread over them, as a large
-stock list carries each design under many SKUs (pack sizes, branches, bins). The
-narrowing does not depend on that, but the engine runs once per distinct design among
-the candidates it must read, so `--designs 100000` (every plug its own design) is the
-worst case; its figures are printed too when `--worst-case` is given.
+or not; three terminal heights; heat 0.10-0.95 on the demo shop's invented index;
+eight gaps. `--designs` distinct designs are drawn from that space and the plugs spread
+over them, as a large stock list carries each design under many SKUs (pack sizes,
+branches, bins). The narrowing does not depend on that, but the engine runs once per
+distinct design among the candidates it must read, so `--designs 100000` (every plug
+its own design) is the worst case; its figures are printed too when `--worst-case` is
+given.
 
 Only 127.0.0.1 is used; the server is stopped by its process id.
 """
@@ -46,6 +47,8 @@ from pathlib import Path
 REPO = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(REPO))
 
+from seed_catalog.demo.generate import HEAT_SCALE  # importable once the repository is on the path
+
 LOOPBACK = "127.0.0.1"
 GOAL_MEDIAN_MS = 50.0
 
@@ -66,8 +69,7 @@ GASKETS = {"M8x1": 1.0, "M10x1": 1.0, "M12x1.25": 1.0, "M14x1.25": 1.5, "M18x1.5
 TIPS = (3.0, 4.5, 6.5, 1.5, -0.5)
 GAPS = (0.5, 0.6, 0.7, 0.8, 0.9, 1.0, 1.1, 1.3)
 
-HEADS = ("DEMO-H-PELLORIN-16", "DEMO-H-SALTMARSH-16A", "DEMO-H-CORRIVETH-57", "DEMO-H-EMBERLY-RACE",
-         "DEMO-H-ASHTRELL-20")
+HEADS = ("DEMO-H-VAN-I4", "DEMO-H-IRRIGATION-I2", "DEMO-H-TRACTOR-I2", "DEMO-H-RACE", "DEMO-H-TRUCK-I4")
 INTERCHANGE_SKUS = ("BENCH-000000", "BENCH-000001", "BENCH-000002", "BENCH-000003", "BENCH-000004")
 
 
@@ -85,7 +87,7 @@ def designs(rng: random.Random, count: int) -> list[dict]:
             "hex_mm": rng.choice(HEXES[thread]), "resistor": rng.random() < 0.7,
             "terminal_height_nominal_mm": round(45 + reach * 0.3 + rng.choice((0, 2, 5))),
             "terminal_height_plus_mm": 0.5, "terminal_height_minus_mm": 0.5,
-            "heat_range_scale": "cinderbrook-heat", "heat_range_value": float(rng.randint(2, 10)),
+            "heat_range_scale": HEAT_SCALE, "heat_range_value": round(rng.randint(2, 19) * 0.05, 2),
             "gap_mm": rng.choice(GAPS),
         }
         if seat == "flat":

@@ -48,7 +48,7 @@ class InterchangeQuerySchema(StockFilterSchema):
 
 
 class FittingPlugSchema(Schema):
-    sku = fields.String(required=True, metadata={"example": "DEMO-14F-190-SR6"})
+    sku = fields.String(required=True, metadata={"example": "DEMO-P-0001"})
     verdict = fields.String(required=True, metadata={"description": "pass or warn (failures are not listed)"})
     plug = fields.Nested(StoredPlugSchema, required=True, metadata={"description": "the inventory line, with stock"})
     result = fields.Nested(FitResultSchema, required=True, metadata={
@@ -66,7 +66,7 @@ class DifferencesSchema(Schema):
 
 
 class InterchangeSchema(Schema):
-    sku = fields.String(required=True, metadata={"example": "DEMO-14F-190-SR6-1"})
+    sku = fields.String(required=True, metadata={"example": "DEMO-P-0171"})
     closeness = fields.Nested(QuantitySchema, required=True, metadata={
         "description": "|thread end difference| + |tip difference|: the ranking, smallest first"})
     differences = fields.Nested(DifferencesSchema, required=True)

@@ -41,13 +41,13 @@ class PlugReplacementSchema(StoredPlugSchema):
     """PUT body: a whole plug; `sku` may be left out (the path names it) and, if given,
     must equal the path's."""
 
-    sku = fields.String(validate=IDENTIFIER, metadata={"example": "DEMO-14F-19-R"})
+    sku = fields.String(validate=IDENTIFIER, metadata={"example": "DEMO-P-0001"})
 
 
 class HeadReplacementSchema(StoredHeadSchema):
     """PUT body: a whole head; `head_id` may be left out and, if given, must equal the path's."""
 
-    head_id = fields.String(validate=IDENTIFIER, metadata={"example": "DEMO-TWIN-650"})
+    head_id = fields.String(validate=IDENTIFIER, metadata={"example": "DEMO-H-VAN-I4"})
 
 
 class UnitsQuerySchema(Schema):

@@ -140,7 +140,7 @@ class PlugDimensionsSchema(Schema):
 class StoredPlugSchema(PlugDimensionsSchema):
     """An inventory line: a plug design with the shop's own identifier and stock."""
 
-    sku = fields.String(required=True, validate=IDENTIFIER, metadata={"example": "DEMO-14F-19-R"})
+    sku = fields.String(required=True, validate=IDENTIFIER, metadata={"example": "DEMO-P-0001"})
     description = fields.String(load_default="", validate=validate.Length(max=500))
     quantity_on_hand = WholeNumber(load_default=0, validate=validate.Range(0, 10_000_000))
     location = fields.String(allow_none=True, validate=validate.Length(max=100))
@@ -223,7 +223,7 @@ class PortDimensionsSchema(Schema):
 
 
 class StoredHeadSchema(PortDimensionsSchema):
-    head_id = fields.String(required=True, validate=IDENTIFIER, metadata={"example": "DEMO-TWIN-650"})
+    head_id = fields.String(required=True, validate=IDENTIFIER, metadata={"example": "DEMO-H-VAN-I4"})
     description = fields.String(load_default="", validate=validate.Length(max=500))
     thread = Thread(required=True)
     seat = Choice(SEATS, SEAT_ALIASES, required=True)

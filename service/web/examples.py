@@ -7,7 +7,7 @@ shape of a request.
 from __future__ import annotations
 
 PLUG = {
-    "sku": "EXAMPLE-14F-19",
+    "sku": "EXAMPLE-P-0001",
     "description": "Example line: M14 flat seat, 19 mm reach, resistor",
     "thread": "M14x1.25",
     "seat": "flat",
@@ -41,7 +41,7 @@ FIT_CHECK_INLINE = {
 }
 
 FIT_CHECK_BY_REFERENCE = {
-    "plug": {"sku": "EXAMPLE-14F-19"},
+    "plug": {"sku": "EXAMPLE-P-0001"},
     "head": {"head_id": "EXAMPLE-HEAD-1"},
 }
 

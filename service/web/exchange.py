@@ -26,14 +26,14 @@ blp = Blueprint("inventory-exchange", __name__, url_prefix="/v1",
 EXAMPLE_PLUGS_CSV = (
     "sku,description,thread,seat,reach_mm,reach_plus_mm,reach_minus_mm,gasket_thickness_mm,firing_end_mm,"
     "hex_mm,resistor,quantity_on_hand,location\n"
-    "DEMO-14F-190-SR6,house line 19 mm reach,M14x1.25,flat,19,0.1,0.1,1.5,3,16,true,12,A-03-2\n"
+    "DEMO-P-0001,house line 19 mm reach,M14x1.25,flat,19,0.1,0.1,1.5,3,16,true,12,A-03-2\n"
 )
 EXAMPLE_HEADS_CSV = (
     "head_id,description,thread,seat,design_reach_mm,design_reach_plus_mm,design_reach_minus_mm,"
     "piston_clearance_mm,well_bore_mm,hex_mm,resistor_required,material,intake_temperature_k\n"
-    "DEMO-H-PELLORIN-16,Demo engine,M14x1.25,flat,19,0.15,0.15,9,25,16,true,aluminium,308.15\n"
+    "DEMO-H-VAN-I4,Demo engine,M14x1.25,flat,19,0.15,0.15,9,25,16,true,aluminium,308.15\n"
 )
-EXAMPLE_PLUGS_JSONL = ('{"sku": "DEMO-14F-190-SR6", "thread": "M14x1.25", "seat": "flat", '
+EXAMPLE_PLUGS_JSONL = ('{"sku": "DEMO-P-0001", "thread": "M14x1.25", "seat": "flat", '
                        '"reach": {"value": 19, "unit": "mm", "tol": 0.1}, "quantity_on_hand": 12}\n')
 EXAMPLE_REPORT = {"resource": "plugs", "mode": "upsert", "rows": 1, "added": 1, "changed": 0, "unchanged": 0,
                   "deleted": 0, "dry_run": False}

@@ -38,7 +38,7 @@ EXAMPLE_REQUEST = {"items": [
                                         "gasket_thickness": 1.5, "firing_end": 4.0},
      "head": {"thread": "M14x1.25", "seat": "flat", "port_depth": 17.5, "piston_clearance": 8.0},
      "options": {"torque": "20 ft-lb"}},
-    {"ref": "demo-twin-rear", "plug": {"sku": "EXAMPLE-14F-19"}, "head": {"head_id": "EXAMPLE-HEAD-1"},
+    {"ref": "demo-twin-rear", "plug": {"sku": "EXAMPLE-P-0001"}, "head": {"head_id": "EXAMPLE-HEAD-1"},
      "waive": [{"codes": ["HEX_DIFFERS"], "reason": "demo: the shop's socket set covers both hexes"}]},
 ]}
 
@@ -60,7 +60,7 @@ EXAMPLE_RESPONSE = {
              "regulations and licensed practice come first.")],
          "engine_version": "1.0.0", "catalog_version": "0123456789ab", "waivers": []},
         {"ref": "demo-twin-rear", "verdict": "invalid", "errors": {"plug": {"sku": [("no plug with sku "
-                                                                                    "'EXAMPLE-14F-19'")]}}},
+                                                                                    "'EXAMPLE-P-0001'")]}}},
     ],
 }
 

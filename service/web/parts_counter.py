@@ -30,7 +30,7 @@ HEAD_ID_PARAMETER = {"in": "path", "name": "head_id", "description": "The head's
 SKU_PARAMETER = {"in": "path", "name": "sku", "description": "The plug's sku (case-sensitive)."}
 
 EXAMPLE_FITTING = [{
-    "sku": "DEMO-14F-190-SR6", "verdict": "pass", "plug": examples.PLUG,
+    "sku": "DEMO-P-0001", "verdict": "pass", "plug": examples.PLUG,
     "result": {"verdict": "pass", "thread": "M14x1.25", "findings": [],
                "geometry": {"thread_protrusion": {"nominal": 0.0, "min": -0.3, "max": 0.3, "rss_min": -0.19,
                                                   "rss_max": 0.19, "unit": "mm"}},
@@ -42,7 +42,7 @@ EXAMPLE_FITTING = [{
                "engine_version": "1.0.0", "catalog_version": "0123456789ab"},
 }]
 EXAMPLE_INTERCHANGE = [{
-    "sku": "DEMO-14F-190-SR6-1", "closeness": {"value": 0.0, "unit": "mm"},
+    "sku": "DEMO-P-0171", "closeness": {"value": 0.0, "unit": "mm"},
     "differences": {"thread_end": {"value": 0.0, "unit": "mm"}, "tip": {"value": 0.0, "unit": "mm"},
                     "terminal_top": {"value": 2.0, "unit": "mm"}},
     "hex_differs": False, "plug": examples.PLUG,

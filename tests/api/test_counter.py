@@ -154,7 +154,9 @@ def test_tolerances_can_be_tightened_but_not_widened(counter_stock):
 
 def test_the_demo_shop_answers_both_questions(client, runner):
     assert runner.invoke("seed", "--demo").exit_code == 0
-    _response, fitting = listing(client, "/v1/heads/DEMO-H-PELLORIN-16/fitting-plugs?page_size=3")
-    assert fitting[0]["sku"] == "DEMO-14F-190-SR5-1" and fitting[0]["verdict"] == "pass"
-    _response, replacements = listing(client, "/v1/plugs/DEMO-14F-190-SR6/interchanges?page_size=3")
-    assert replacements and all(entry["plug"]["thread"] == "M14x1.25" for entry in replacements)
+    # The first entries the README's examples show (seed_catalog/demo/generate.py, SHOWCASE).
+    _response, fitting = listing(client, "/v1/heads/DEMO-H-VAN-I4/fitting-plugs?page_size=3")
+    assert fitting[0]["sku"] == "DEMO-P-0001" and fitting[0]["verdict"] == "pass"
+    _response, replacements = listing(client, "/v1/plugs/DEMO-P-0001/interchanges?page_size=3")
+    assert replacements[0]["sku"] == "DEMO-P-0171"
+    assert all(entry["plug"]["thread"] == "M14x1.25" for entry in replacements)

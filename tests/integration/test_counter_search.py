@@ -117,7 +117,7 @@ def test_include_lists_only_the_chosen_verdicts(shop, include):
 def test_the_filters_restrict_to_stock_resistor_and_hex(shop):
     app, plugs, heads = shop
     options = options_from({})
-    head = next(h for h in heads if h["head_id"] == "DEMO-H-PELLORIN-16")
+    head = next(h for h in heads if h["head_id"] == "DEMO-H-VAN-I4")
     filters = parts_search.PlugFilters(in_stock=True, resistor=True, hex_mm=16.0)
     listed, _total = searched(app, head, options, filters=filters, page_size=11)
     keep = (lambda plug: plug["quantity_on_hand"] > 0 and plug.get("resistor") is True
@@ -131,7 +131,7 @@ def test_the_filters_restrict_to_stock_resistor_and_hex(shop):
 def test_check_options_change_the_listing_exactly_as_they_change_the_checks(shop, given):
     app, plugs, heads = shop
     options = options_from(given)
-    for head_id in ("DEMO-H-PELLORIN-16", "DEMO-H-CORRIVETH-57", "DEMO-H-EMBERLY-RACE", "DEMO-H-TALLOWMERE-22"):
+    for head_id in ("DEMO-H-VAN-I4", "DEMO-H-TRACTOR-I2", "DEMO-H-RACE", "DEMO-H-PROJECT-I4"):
         head = next(h for h in heads if h["head_id"] == head_id)
         assert searched(app, head, options)[0] == brute_force(plugs, head, options), head_id
 

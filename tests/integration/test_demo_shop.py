@@ -42,9 +42,28 @@ def test_every_name_in_the_demo_shop_is_marked_as_demo_data(demo_shop):
     plugs, heads = demo_shop
     assert all(head["head_id"].startswith("DEMO-H-") and head["description"].startswith("Demo engine:")
                for head in heads)
-    assert all(re.fullmatch(r"DEMO-[A-Z0-9.-]+", plug["sku"]) for plug in plugs)
+    assert all(plug["description"].startswith("Demo house line:") for plug in plugs)
     for name in ("plugs.csv", "heads.csv"):
         assert (seeding.DEMO_DIRECTORY / name).read_text(encoding="utf-8").startswith("# DEMO DATA")
+
+
+def test_demo_skus_are_opaque_and_carry_no_attributes(demo_shop):
+    """Issue 15: a SKU that spells out size, seat, tip, resistor and heat echoes real part
+    codes; the demo's say nothing (the description and the columns do)."""
+    plugs, _heads = demo_shop
+    assert all(re.fullmatch(r"DEMO-P-\d{4}", plug["sku"]) for plug in plugs)
+
+
+def test_the_demo_heat_ranges_are_on_the_invented_index(demo_shop):
+    """Issue 15: the demo's own scale is a 0.00 (hottest) to 1.00 (coldest) index in steps
+    of 0.05, named as invented; no maker numbers heat ranges this way."""
+    plugs, heads = demo_shop
+    assert generate.HEAT_SCALE == "demo-cooling-index"
+    values = [plug["heat_range"]["value"] for plug in plugs]
+    values += [head["heat_range_band"][end] for head in heads if head.get("heat_range_band") for end in ("min", "max")]
+    assert {plug["heat_range"]["scale"] for plug in plugs} == {"demo-cooling-index"}
+    assert {head["heat_range_band"]["scale"] for head in heads if head.get("heat_range_band")} == {"demo-cooling-index"}
+    assert all(0.0 <= value <= 1.0 and abs(value * 20 - round(value * 20)) < 1e-9 for value in values)
 
 
 def _showcased(pair: generate.Showcase, plugs: list[dict], heads: list[dict]):

@@ -145,7 +145,7 @@ def test_junit_output_has_a_case_per_line_with_failures_and_errors(runner, tmp_p
 
 def test_references_resolve_against_the_migrated_local_database(runner, tmp_path):
     assert runner.invoke("seed", "--demo").exit_code == 0
-    path = write(tmp_path, "ref,sku,head_id\nok,DEMO-14F-265-SR5,DEMO-H-ASHTRELL-20\nghost,NO-SUCH,DEMO-H-ASHTRELL-20\n")
+    path = write(tmp_path, "ref,sku,head_id\nok,DEMO-P-0005,DEMO-H-TRUCK-I4\nghost,NO-SUCH,DEMO-H-TRUCK-I4\n")
     result = runner.invoke("validate", path, "--format", "json")
     results = json.loads(result.output)["results"]
     assert [r["verdict"] for r in results] == ["pass", "invalid"]
@@ -153,7 +153,7 @@ def test_references_resolve_against_the_migrated_local_database(runner, tmp_path
 
 
 def test_references_without_any_inventory_are_invalid_with_a_hint(tmp_path):
-    path = write(tmp_path, "ref,sku,head_id\nx,DEMO-14F-265-SR5,DEMO-H-ASHTRELL-20\n")
+    path = write(tmp_path, "ref,sku,head_id\nx,DEMO-P-0005,DEMO-H-TRUCK-I4\n")
     done = run("validate", path, database_url=f"sqlite:///{tmp_path / 'absent.db'}")
     assert done.returncode == 1
     assert "no database file" in done.stderr and "--inventory" in done.stderr
@@ -226,7 +226,7 @@ def test_plugfit_check_prints_the_contract_geometry_and_exits_by_verdict():
 
 
 def test_plugfit_check_reads_a_request_file_and_resolves_references_from_an_inventory(tmp_path):
-    request = write(tmp_path, json.dumps({"plug": {"sku": "DEMO-14F-265-SR5"}, "head": {"head_id": "DEMO-H-ASHTRELL-20"},
+    request = write(tmp_path, json.dumps({"plug": {"sku": "DEMO-P-0005"}, "head": {"head_id": "DEMO-H-TRUCK-I4"},
                                           "options": {"torque": "20 ft-lb"}}), "request.json")
     done = run("check", "--file", request, *DEMO_INVENTORY, "--format", "json")
     assert done.returncode == 0, done.stderr

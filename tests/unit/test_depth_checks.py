@@ -157,25 +157,26 @@ def test_without_a_compression_ratio_the_gap_voltage_is_not_checked(check):
 
 # --- heat_range ------------------------------------------------------------------------
 
-BAND_HEAD = dict(M14_FLAT_HEAD, heat_range_band={"scale": "demo-scale", "min": 5, "max": 7})
+# An invented index (like the demo shop's, seed_catalog/demo/generate.py): 0.00 to 1.00.
+BAND_HEAD = dict(M14_FLAT_HEAD, heat_range_band={"scale": "demo-scale", "min": 0.40, "max": 0.60})
 
 
 def test_a_plug_above_the_heads_band_is_out_of_band_by_the_difference(check):
-    result = check(dict(M14_FLAT_PLUG, heat_range={"scale": "demo-scale", "value": 8}), BAND_HEAD)
+    result = check(dict(M14_FLAT_PLUG, heat_range={"scale": "demo-scale", "value": 0.75}), BAND_HEAD)
     out = finding(result, "HEAT_RANGE_OUT_OF_BAND")
     assert out is not None and out.severity == "warn"
-    assert out.values["distance"][0] == pytest.approx(1.0)  # hand-worked: 8 − 7
+    assert out.values["distance"][0] == pytest.approx(0.15)  # hand-worked: 0.75 − 0.60
     assert "above" in out.message
 
 
 def test_a_plug_inside_the_band_on_the_same_scale_in_other_letter_case_passes(check):
-    result = check(dict(M14_FLAT_PLUG, heat_range={"scale": "Demo-Scale", "value": 6}), BAND_HEAD)
+    result = check(dict(M14_FLAT_PLUG, heat_range={"scale": "Demo-Scale", "value": 0.5}), BAND_HEAD)
     assert finding(result, "HEAT_RANGE_OUT_OF_BAND") is None
-    assert analysed(result, "heat_range", "heat_range") == 6
+    assert analysed(result, "heat_range", "heat_range") == 0.5
 
 
 def test_a_heat_range_on_another_scale_is_not_compared(check):
-    result = check(dict(M14_FLAT_PLUG, heat_range={"scale": "other-scale", "value": 6}), BAND_HEAD)
+    result = check(dict(M14_FLAT_PLUG, heat_range={"scale": "other-scale", "value": 0.5}), BAND_HEAD)
     skipped = not_checked(result, "heat_range")
     assert "'other-scale'" in skipped.message and "'demo-scale'" in skipped.message
     assert finding(result, "HEAT_RANGE_OUT_OF_BAND") is None

@@ -45,18 +45,18 @@ BENCH_PORTS = [
 RICH_PLUGS = [
     PlugSpec("M14x1.25", "flat", reach=Dim(19.0, 0.1, 0.1), gasket_thickness=Dim(1.5, 0.1, 0.1),
              firing_end=Dim(3.0, 0.2, 0.2), hex=16.0, resistor=True, terminal_height=Dim(60.0, 0.5, 0.5),
-             heat_range=HeatRange("demo scale", 6.0), gap=1.1),
+             heat_range=HeatRange("demo scale", 0.5), gap=1.1),
     PlugSpec("M14x1.25", "flat", reach=Dim(19.0), firing_end=Dim(3.0), hex=16.0, resistor=None,
-             terminal_height=Dim(50.0), heat_range=HeatRange("other", 5.0), gap=0.6),
+             terminal_height=Dim(50.0), heat_range=HeatRange("other", 0.45), gap=0.6),
 ]
 RICH_PORTS = [
     PortSpec("M14x1.25", "flat", port_depth=Dim(17.5, 0.2, 0.2), seat_to_piston=Dim(26.0, 0.5, 0.5),
              valve_clearance=Dim(6.0), well_bore=21.0, hex=20.8, resistor_required=True,
-             heat_range_band=HeatRangeBand("demo scale", 7.0, 9.0), boot_range=Span(62.0, 66.0),
+             heat_range_band=HeatRangeBand("demo scale", 0.6, 0.8), boot_range=Span(62.0, 66.0),
              compression_ratio=12.0, intake_pressure_bar=2.0, ignition_voltage_kv=30.0,
              peak_pressure_bar=90.0, stroke_mm=86.0, rod_length_mm=145.0, spark_advance_deg=25.0),
     PortSpec("M14x1.25", "flat", design_reach=Dim(19.0), piston_clearance=Dim(1.0), compression_ratio=10.0,
-             ignition_voltage_kv=25.0, heat_range_band=HeatRangeBand("demo scale", 4.0, 6.0),
+             ignition_voltage_kv=25.0, heat_range_band=HeatRangeBand("demo scale", 0.3, 0.5),
              boot_range=Span(40.0, 45.0)),
     # A shallow port under a high peak pressure: little engaged thread, so it may strip.
     PortSpec("M14x1.25", "flat", port_depth=Dim(6.0, 0.1, 0.1), peak_pressure_bar=120.0, well_bore=30.0,
