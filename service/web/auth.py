@@ -12,10 +12,10 @@ import hashlib
 import hmac
 import secrets
 from collections.abc import Callable
-from copy import deepcopy
 from dataclasses import dataclass
 from typing import TypeVar
 
+import flask_smorest
 from flask import Flask, current_app, g, request
 from sqlalchemy import select
 from sqlalchemy.orm import Session
@@ -28,7 +28,10 @@ READ = "read"
 WRITE = "write"
 READ_METHODS = frozenset({"GET", "HEAD", "OPTIONS"})
 # Endpoints of blueprints we do not write (flask-smorest serves the OpenAPI document).
-PUBLIC_BLUEPRINTS = frozenset({"api-docs"})
+PUBLIC_BLUEPRINTS = frozenset({"api-docs", "api-reference"})
+# The mark `access` leaves in the operation's document, turned into its `security` by
+# `service.web.smorest.ContractPlugin`.
+ACCESS_MARK = "x-plugfit-access"
 
 KEY_PREFIX = "pfk_"
 # Characters of the key kept in clear to find its row and tell keys apart in listings.
@@ -44,10 +47,8 @@ def access(level: str) -> Callable[[F], F]:
 
     def mark(func: F) -> F:
         func._plugfit_access = level  # type: ignore[attr-defined]
-        doc = deepcopy(getattr(func, "_apidoc", {}))
-        doc["plugfit_access"] = level
-        func._apidoc = doc  # type: ignore[attr-defined]
-        return func
+        # flask-smorest's public doc decorator; functools.wraps carries the attribute over.
+        return flask_smorest.Blueprint.doc(**{ACCESS_MARK: level})(func)
 
     return mark
 

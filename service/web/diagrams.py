@@ -23,12 +23,13 @@ SVG_MEDIA_TYPE = "image/svg+xml"
 EXAMPLE_SVG = ('<svg xmlns="http://www.w3.org/2000/svg" width="920" height="800" data-px-per-mm="13.4" '
                'data-origin-y="211.3" data-axis-x="254.4" data-units="metric">...</svg>')
 
-blp = Blueprint("fit-check-diagrams", __name__, url_prefix="/v1/fit-checks",
+blp = Blueprint("drawings", __name__, url_prefix="/v1/fit-checks",
                 description="The fit as a to-scale section drawing (SVG).")
 
 
 @blp.route("/diagram")
 class FitCheckDiagram(MethodView):
+    @blp.doc(operationId="draw_fit")
     @auth.access(auth.READ)
     @blp.arguments(UnitsQuerySchema, location="query")
     @blp.arguments(FitCheckRequestSchema, example=examples.FIT_CHECK_INLINE)

@@ -92,6 +92,7 @@ def _export(resource: str) -> Response:
 
 @blp.route("/imports/plugs")
 class PlugImport(MethodView):
+    @blp.doc(operationId="import_plugs")
     @blp.arguments(ImportQuerySchema, location="query")
     @blp.doc(requestBody=_request_body("plugs"))
     @blp.response(200, ImportReportSchema, example=EXAMPLE_REPORT)
@@ -114,6 +115,7 @@ class PlugImport(MethodView):
 
 @blp.route("/imports/heads")
 class HeadImport(MethodView):
+    @blp.doc(operationId="import_heads")
     @blp.arguments(ImportQuerySchema, location="query")
     @blp.doc(requestBody=_request_body("heads"))
     @blp.response(200, ImportReportSchema, example={**EXAMPLE_REPORT, "resource": "heads"})
@@ -133,6 +135,7 @@ _EXPORT_RESPONSE = {"type": "string", "description": "CSV, UTF-8, one header row
 
 @blp.route("/exports/plugs")
 class PlugExport(MethodView):
+    @blp.doc(operationId="export_plugs")
     @blp.response(200, _EXPORT_RESPONSE, content_type=stock_file.CSV_MEDIA_TYPE, example=EXAMPLE_PLUGS_CSV)
     def get(self):
         """Export every plug as CSV
@@ -146,6 +149,7 @@ class PlugExport(MethodView):
 
 @blp.route("/exports/heads")
 class HeadExport(MethodView):
+    @blp.doc(operationId="export_heads")
     @blp.response(200, _EXPORT_RESPONSE, content_type=stock_file.CSV_MEDIA_TYPE, example=EXAMPLE_HEADS_CSV)
     def get(self):
         """Export every head as CSV

@@ -30,7 +30,7 @@ from service.usecases.batch import collector_paused, run_batch
 from service.web import auth, problems
 from service.web.smorest import Blueprint
 
-blp = Blueprint("fit-check-batches", __name__, url_prefix="/v1/fit-checks",
+blp = Blueprint("build-lists", __name__, url_prefix="/v1/fit-checks",
                 description="Build lists: many checks in one request, from JSON or CSV, for CI.")
 
 EXAMPLE_REQUEST = {"items": [
@@ -101,6 +101,7 @@ def _read_body(limit: int) -> list:
 
 @blp.route("/batch")
 class FitCheckBatch(MethodView):
+    @blp.doc(operationId="check_build_list")
     @auth.access(auth.READ)
     @blp.arguments(BatchQuerySchema, location="query")
     @blp.doc(requestBody=_REQUEST_BODY)

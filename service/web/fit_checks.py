@@ -23,6 +23,7 @@ blp = Blueprint("fit-checks", __name__, url_prefix="/v1/fit-checks",
 
 @blp.route("")
 class FitChecks(MethodView):
+    @blp.doc(operationId="check_fit")
     @auth.access(auth.READ)
     @blp.arguments(UnitsQuerySchema, location="query")
     @blp.arguments(FitCheckRequestSchema, examples={

@@ -19,6 +19,7 @@ HEAD_ID_PARAMETER = {"in": "path", "name": "head_id", "description": "The shop's
 
 @blp.route("")
 class Heads(MethodView):
+    @blp.doc(operationId="list_heads")
     @blp.arguments(HeadFilterSchema, location="query")
     @blp.response(200, StoredHeadSchema(many=True), example=[examples.HEAD])
     @blp.paginate()
@@ -33,7 +34,8 @@ class Heads(MethodView):
         pagination_parameters.item_count = total
         return [repo.mapping.document_of(row) for row in rows]
 
-    @blp.etag
+    @blp.doc(operationId="create_head")
+    @blp.record_etag
     @blp.arguments(StoredHeadSchema, example=examples.HEAD)
     @blp.response(201, StoredHeadSchema, example=examples.HEAD,
                   headers={"Location": {"description": "URL of the new head", "schema": {"type": "string"}}})
@@ -44,12 +46,13 @@ class Heads(MethodView):
         The client chooses the head_id; one that exists is a 409. Needs an API key.
         """
         session = db.session()
-        return records.create(blp, repository.heads(session), document, "heads.HeadItem", session)
+        return records.create(repository.heads(session), document, "heads.HeadItem", session)
 
 
 @blp.route("/<string:head_id>", parameters=[HEAD_ID_PARAMETER])
 class HeadItem(MethodView):
-    @blp.etag
+    @blp.doc(operationId="get_head")
+    @blp.record_etag
     @blp.response(200, StoredHeadSchema, example=examples.HEAD)
     @blp.alt_response(404, response="NOT_FOUND")
     def get(self, head_id):
@@ -57,14 +60,10 @@ class HeadItem(MethodView):
 
         The body can be sent back unchanged with PUT; the ETag guards it (If-Match).
         """
-        repo = repository.heads(db.session())
-        row = repo.get(head_id)
-        if row is None:
-            records.not_found("head", "head_id", head_id)
-        blp.set_etag(records.etag_data(row, "head_id"))
-        return repo.mapping.document_of(row), records.last_modified(row)
+        return records.get(repository.heads(db.session()), head_id, "head")
 
-    @blp.etag
+    @blp.doc(operationId="replace_head")
+    @blp.record_etag
     @blp.arguments(HeadReplacementSchema, example=examples.HEAD)
     @blp.response(200, StoredHeadSchema, example=examples.HEAD)
     @blp.alt_response(404, response="NOT_FOUND")
@@ -76,9 +75,10 @@ class HeadItem(MethodView):
         with the ETag of a GET to refuse the change (412) if someone changed it since.
         """
         session = db.session()
-        return records.replace(blp, repository.heads(session), head_id, document, "head", session)
+        return records.replace(repository.heads(session), head_id, document, "head", session)
 
-    @blp.etag
+    @blp.doc(operationId="delete_head")
+    @blp.record_etag
     @blp.response(204)
     @blp.alt_response(404, response="NOT_FOUND")
     def delete(self, head_id):
@@ -87,11 +87,12 @@ class HeadItem(MethodView):
         Needs an API key; If-Match is honoured when sent.
         """
         session = db.session()
-        records.delete(blp, repository.heads(session), head_id, "head", session)
+        records.delete(repository.heads(session), head_id, "head", session)
 
 
 @blp.route("/<string:head_id>/history", parameters=[HEAD_ID_PARAMETER])
 class HeadHistory(MethodView):
+    @blp.doc(operationId="list_head_history")
     @blp.arguments(HistoryQuerySchema, location="query")
     @blp.response(200, ChangeSchema(many=True), example=history_pages.HEAD_EXAMPLE)
     @blp.alt_response(404, response="NOT_FOUND")

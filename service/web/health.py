@@ -25,6 +25,7 @@ def package_version() -> str:
 
 @blp.route("")
 class Health(MethodView):
+    @blp.doc(operationId="get_health")
     @auth.access(auth.PUBLIC)
     @blp.response(200, HealthSchema, example={"status": "ok", "database": "ok", "version": "0.1.0"})
     @blp.alt_response(503, response="SERVICE_UNAVAILABLE")

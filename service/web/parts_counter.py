@@ -62,6 +62,7 @@ def _plug_documents(session, plug_ids: list[int]) -> dict[int, dict]:
 
 @blp.route("/heads/<string:head_id>/fitting-plugs", parameters=[HEAD_ID_PARAMETER])
 class FittingPlugs(MethodView):
+    @blp.doc(operationId="list_fitting_plugs")
     @blp.arguments(FittingPlugsQuerySchema, location="query")
     @blp.response(200, FittingPlugSchema(many=True), example=EXAMPLE_FITTING)
     @blp.alt_response(404, response="NOT_FOUND")
@@ -116,6 +117,7 @@ def _quantity(value: float | None, units: str) -> dict[str, Any] | None:
 
 @blp.route("/plugs/<string:sku>/interchanges", parameters=[SKU_PARAMETER])
 class Interchanges(MethodView):
+    @blp.doc(operationId="find_interchanges")
     @blp.arguments(InterchangeQuerySchema, location="query")
     @blp.response(200, InterchangeSchema(many=True), example=EXAMPLE_INTERCHANGE)
     @blp.alt_response(404, response="NOT_FOUND")

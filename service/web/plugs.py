@@ -19,6 +19,7 @@ SKU_PARAMETER = {"in": "path", "name": "sku", "description": "The shop's identif
 
 @blp.route("")
 class Plugs(MethodView):
+    @blp.doc(operationId="list_plugs")
     @blp.arguments(PlugFilterSchema, location="query")
     @blp.response(200, StoredPlugSchema(many=True), example=[examples.PLUG])
     @blp.paginate()
@@ -35,7 +36,8 @@ class Plugs(MethodView):
         pagination_parameters.item_count = total
         return [repo.mapping.document_of(row) for row in rows]
 
-    @blp.etag
+    @blp.doc(operationId="create_plug")
+    @blp.record_etag
     @blp.arguments(StoredPlugSchema, example=examples.PLUG)
     @blp.response(201, StoredPlugSchema, example=examples.PLUG,
                   headers={"Location": {"description": "URL of the new plug", "schema": {"type": "string"}}})
@@ -46,12 +48,13 @@ class Plugs(MethodView):
         The client chooses the sku; one that exists is a 409. Needs an API key.
         """
         session = db.session()
-        return records.create(blp, repository.plugs(session), document, "plugs.PlugItem", session)
+        return records.create(repository.plugs(session), document, "plugs.PlugItem", session)
 
 
 @blp.route("/<string:sku>", parameters=[SKU_PARAMETER])
 class PlugItem(MethodView):
-    @blp.etag
+    @blp.doc(operationId="get_plug")
+    @blp.record_etag
     @blp.response(200, StoredPlugSchema, example=examples.PLUG)
     @blp.alt_response(404, response="NOT_FOUND")
     def get(self, sku):
@@ -59,14 +62,10 @@ class PlugItem(MethodView):
 
         The body can be sent back unchanged with PUT; the ETag guards it (If-Match).
         """
-        repo = repository.plugs(db.session())
-        row = repo.get(sku)
-        if row is None:
-            records.not_found("plug", "sku", sku)
-        blp.set_etag(records.etag_data(row, "sku"))
-        return repo.mapping.document_of(row), records.last_modified(row)
+        return records.get(repository.plugs(db.session()), sku, "plug")
 
-    @blp.etag
+    @blp.doc(operationId="replace_plug")
+    @blp.record_etag
     @blp.arguments(PlugReplacementSchema, example=examples.PLUG)
     @blp.response(200, StoredPlugSchema, example=examples.PLUG)
     @blp.alt_response(404, response="NOT_FOUND")
@@ -78,9 +77,10 @@ class PlugItem(MethodView):
         with the ETag of a GET to refuse the change (412) if someone changed it since.
         """
         session = db.session()
-        return records.replace(blp, repository.plugs(session), sku, document, "plug", session)
+        return records.replace(repository.plugs(session), sku, document, "plug", session)
 
-    @blp.etag
+    @blp.doc(operationId="delete_plug")
+    @blp.record_etag
     @blp.response(204)
     @blp.alt_response(404, response="NOT_FOUND")
     def delete(self, sku):
@@ -89,11 +89,12 @@ class PlugItem(MethodView):
         Needs an API key; If-Match is honoured when sent.
         """
         session = db.session()
-        records.delete(blp, repository.plugs(session), sku, "plug", session)
+        records.delete(repository.plugs(session), sku, "plug", session)
 
 
 @blp.route("/<string:sku>/history", parameters=[SKU_PARAMETER])
 class PlugHistory(MethodView):
+    @blp.doc(operationId="list_plug_history")
     @blp.arguments(HistoryQuerySchema, location="query")
     @blp.response(200, ChangeSchema(many=True), example=history_pages.PLUG_EXAMPLE)
     @blp.alt_response(404, response="NOT_FOUND")

@@ -136,7 +136,9 @@ def handle_http_exception(error: HTTPException) -> Response:
     """Turn any HTTPException (from abort, webargs, werkzeug or Flask) into a problem."""
     status = error.code or 500
     if status < 400:
-        # 304 Not Modified and friends carry no body.
+        # 304 Not Modified and friends carry no body; a ready response keeps its headers.
+        if error.response is not None:
+            return error.response
         response = Response(status=status)
         for name, value in getattr(error, "data", {}).get("headers", {}).items():
             response.headers[name] = value

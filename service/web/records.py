@@ -1,6 +1,6 @@
-"""What the plug and head endpoints share: create, replace and delete with the
-contract's status codes (201 + Location, 409 on a taken identifier, 412 on a stale
-If-Match), ETags from the row's version, and Last-Modified."""
+"""What the plug and head endpoints share: get, create, replace and delete with the
+contract's status codes (201 + Location, 409 on a taken identifier, 304 on a matching
+If-None-Match, 412 on a stale If-Match), ETags from the row's version, and Last-Modified."""
 from __future__ import annotations
 
 from datetime import UTC, datetime
@@ -13,7 +13,7 @@ from sqlalchemy.orm.exc import StaleDataError
 from service.store import history
 from service.store.repository import DuplicateIdentifier, Repository
 from service.web import problems
-from service.web.smorest import Blueprint
+from service.web.smorest import check_if_match, check_if_none_match, etag_of
 
 
 def etag_data(row: Any, key: str) -> list[Any]:
@@ -33,11 +33,31 @@ def last_modified(row: Any) -> dict[str, str]:
     return {"Last-Modified": format_datetime(_utc(row.updated_at), usegmt=True)}
 
 
+def tag(row: Any, key: str) -> str:
+    return etag_of(etag_data(row, key))
+
+
+def version_headers(row: Any, key: str) -> dict[str, str]:
+    """ETag and Last-Modified of a stored record, for its answers."""
+    return {"ETag": f'"{tag(row, key)}"', **last_modified(row)}
+
+
+def get(repo: Repository, identifier: str, kind: str) -> tuple:
+    """A stored record with its ETag (304 when If-None-Match holds it)."""
+    key = repo.mapping.key
+    row = repo.get(identifier)
+    if row is None:
+        not_found(kind, key, identifier)
+    headers = version_headers(row, key)
+    check_if_none_match(tag(row, key), last_modified(row))
+    return repo.mapping.document_of(row), headers
+
+
 def not_found(kind: str, key: str, identifier: str):
     problems.abort(404, f"No {kind} with {key} {identifier!r}.", errors={key: [f"no {kind} {identifier!r}"]})
 
 
-def create(blp: Blueprint, repo: Repository, document: dict[str, Any], endpoint: str, session) -> tuple:
+def create(repo: Repository, document: dict[str, Any], endpoint: str, session) -> tuple:
     key = repo.mapping.key
     try:
         row = repo.add(document)
@@ -48,12 +68,11 @@ def create(blp: Blueprint, repo: Repository, document: dict[str, Any], endpoint:
         problems.abort(409, f"A record with {key} {duplicate.identifier!r} exists; replace it with PUT "
                             "or choose another identifier.",
                        errors={key: [f"{duplicate.identifier!r} exists"]})
-    blp.set_etag(etag_data(row, key))
-    headers = {"Location": url_for(endpoint, **{key: getattr(row, key)}), **last_modified(row)}
+    headers = {"Location": url_for(endpoint, **{key: getattr(row, key)}), **version_headers(row, key)}
     return repo.mapping.document_of(row), 201, headers
 
 
-def replace(blp: Blueprint, repo: Repository, identifier: str, document: dict[str, Any], kind: str, session) -> tuple:
+def replace(repo: Repository, identifier: str, document: dict[str, Any], kind: str, session) -> tuple:
     key = repo.mapping.key
     row = repo.get(identifier)
     if row is None:
@@ -62,7 +81,7 @@ def replace(blp: Blueprint, repo: Repository, identifier: str, document: dict[st
     if given is not None and given != identifier:
         problems.abort(422, f"The body's {key} differs from the path's; a record cannot be renamed.",
                        errors={key: [f"must equal {identifier!r}, the path's {key}"]})
-    blp.check_etag_if_sent(etag_data(row, key))
+    check_if_match(tag(row, key))
     before, version_before = repo.mapping.document_of(row), row.version
     try:
         repo.replace(row, {**document, key: identifier})
@@ -72,16 +91,15 @@ def replace(blp: Blueprint, repo: Repository, identifier: str, document: dict[st
         session.commit()
     except StaleDataError:
         _changed_meanwhile(kind)
-    blp.set_etag(etag_data(row, key))
-    return repo.mapping.document_of(row), last_modified(row)
+    return repo.mapping.document_of(row), version_headers(row, key)
 
 
-def delete(blp: Blueprint, repo: Repository, identifier: str, kind: str, session) -> None:
+def delete(repo: Repository, identifier: str, kind: str, session) -> None:
     key = repo.mapping.key
     row = repo.get(identifier)
     if row is None:
         not_found(kind, key, identifier)
-    blp.check_etag_if_sent(etag_data(row, key))
+    check_if_match(tag(row, key))
     before, version_before = repo.mapping.document_of(row), row.version
     try:
         repo.delete(row)

@@ -25,6 +25,7 @@ _EXAMPLE = {
 
 @blp.route("")
 class StandardSizes(MethodView):
+    @blp.doc(operationId="get_standard_sizes")
     @blp.response(200, StandardSizesSchema, example=_EXAMPLE)
     def get(self):
         """The catalogue of standard sizes, with the source of every value

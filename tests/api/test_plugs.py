@@ -218,7 +218,33 @@ def test_the_list_pages_with_page_and_page_size(client, shelf):
     assert json.loads(response.headers["X-Pagination"]) == {
         "total": 5, "total_pages": 3, "first_page": 1, "last_page": 3, "page": 2,
         "previous_page": 1, "next_page": 3}
-    assert skus(client.get("/v1/plugs?page=9&page_size=2")) == []
+    # RFC 8288 links beside it, keeping the filters.
+    links = response.headers["Link"]
+    assert '<http://localhost/v1/plugs?page=3&page_size=2>; rel="next"' in links
+    assert '<http://localhost/v1/plugs?page=1&page_size=2>; rel="prev"' in links
+    assert '<http://localhost/v1/plugs?page=1&page_size=2>; rel="first"' in links
+    assert '<http://localhost/v1/plugs?page=3&page_size=2>; rel="last"' in links
+    filtered = client.get("/v1/plugs?thread=M14&page_size=2").headers["Link"]
+    assert '<http://localhost/v1/plugs?thread=M14&page=2&page_size=2>; rel="next"' in filtered
+
+
+def test_a_page_past_the_end_is_empty_and_still_says_which_page_it_is(client, shelf):
+    response = client.get("/v1/plugs?page=999&page_size=2")
+    assert skus(response) == []
+    assert json.loads(response.headers["X-Pagination"]) == {
+        "total": 5, "total_pages": 3, "first_page": 1, "last_page": 3, "page": 999, "previous_page": 3}
+    assert 'rel="next"' not in response.headers["Link"]
+    empty = client.get("/v1/plugs?thread=M10&page=2")
+    assert skus(empty) == []
+    assert json.loads(empty.headers["X-Pagination"]) == {"total": 0, "total_pages": 0, "page": 2}
+
+
+def test_a_misspelt_query_parameter_is_a_422_naming_it(client, shelf):
+    body = problem(client.get("/v1/plugs?thred=M14"), 422)
+    assert body["errors"] == {"thred": ["unknown query parameter; did you mean thread?"]}
+    assert "thread" in body["detail"]
+    # Also where an operation takes no query parameters at all.
+    assert list(problem(client.get("/v1/plugs/A-14F-19?units=imperial"), 422)["errors"]) == ["units"]
 
 
 def test_a_page_size_over_1000_is_a_422(client):
