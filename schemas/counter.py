@@ -7,9 +7,9 @@ from webargs.fields import DelimitedList
 from service.fitment.defaults import STACKS
 from service.fitment.interchange import THREAD_END_TOLERANCE_MM, TIP_TOLERANCE_MM
 
+from .answers import PlugSchema
 from .fields import Choice, Quantity
 from .results import UNIT_SYSTEMS, FitResultSchema, QuantitySchema
-from .specs import StoredPlugSchema
 
 INCLUDE = ("pass", "warn")
 
@@ -50,7 +50,7 @@ class InterchangeQuerySchema(StockFilterSchema):
 class FittingPlugSchema(Schema):
     sku = fields.String(required=True, metadata={"example": "DEMO-P-0001"})
     verdict = fields.String(required=True, metadata={"description": "pass or warn (failures are not listed)"})
-    plug = fields.Nested(StoredPlugSchema, required=True, metadata={"description": "the inventory line, with stock"})
+    plug = fields.Nested(PlugSchema, required=True, metadata={"description": "the inventory line, with stock"})
     result = fields.Nested(FitResultSchema, required=True, metadata={
         "description": "the fit check of this plug in this head, as POST /v1/fit-checks answers it"})
 
@@ -72,4 +72,4 @@ class InterchangeSchema(Schema):
     differences = fields.Nested(DifferencesSchema, required=True)
     hex_differs = fields.Boolean(allow_none=True, required=True, metadata={
         "description": "true: another hex family than the original (have the socket); null: a hex is unknown"})
-    plug = fields.Nested(StoredPlugSchema, required=True)
+    plug = fields.Nested(PlugSchema, required=True)

@@ -8,14 +8,20 @@ from __future__ import annotations
 
 from typing import Any
 
-from marshmallow import ValidationError, fields
+from marshmallow import Schema, ValidationError, fields
 
 from service.fitment.model import Dim
 from service.units import UnitError, check_finite, parse_quantity
 
 _NUMBER_OR_STRING = [{"type": "number"}, {"type": "string"}]
-_TOLERANCED_OBJECT = {
+# Component names of the object forms (registered by `service.web.smorest.ContractPlugin`
+# and by the answer schemas below): a request may send back what an answer holds.
+LENGTH_COMPONENT = "Length"
+LENGTH_INPUT_COMPONENT = "LengthInput"
+QUANTITY_COMPONENT = "Quantity"
+LENGTH_INPUT = {
     "type": "object",
+    "description": "A length with its unit and, optionally, a tolerance (tol, or plus and minus).",
     "required": ["value"],
     "properties": {
         "value": {"oneOf": _NUMBER_OR_STRING},
@@ -26,6 +32,12 @@ _TOLERANCED_OBJECT = {
     },
     "additionalProperties": False,
 }
+
+
+def _reference(component: str) -> dict[str, str]:
+    return {"$ref": f"#/components/schemas/{component}"}
+
+
 # Tolerances beyond this are not tolerances any more (a typo, or the wrong unit).
 MAX_TOLERANCE_MM = 10.0
 
@@ -39,10 +51,12 @@ def _scalar(value: Any, kind: str) -> float:
 
 
 class Quantity(fields.Field):
-    """A scalar quantity: a number in the kind's bare unit or a string with units.
+    """A scalar quantity: a number in the kind's bare unit, a string with units, or an
+    object `{"value": 2.5, "unit": "bar"}` (what an answer writes: lengths as `Length`,
+    which may carry a zero tolerance, the others as `Quantity`).
 
     Loads as a float in the engine's unit (mm, N·m, bar, K, kV, deg); dumps as a number
-    in that unit.
+    in that unit (answers use `QuantityValue` / `LengthValue` instead).
     """
 
     def __init__(self, kind: str, *, minimum: float | None = None, maximum: float | None = None,
@@ -52,19 +66,44 @@ class Quantity(fields.Field):
         self.maximum = maximum
         metadata = kwargs.pop("metadata", {})
         description = metadata.pop("description", "")
-        unit_note = f"A number ({bare_unit}) or a string with units." if bare_unit else ""
-        metadata = {"oneOf": _NUMBER_OR_STRING,
+        # What the value is, without the input grammar: the answer schemas reuse it.
+        self.meaning = description
+        unit_note = f"A number ({bare_unit}), a string with units or an object with value and unit." \
+            if bare_unit else ""
+        answer = LENGTH_COMPONENT if kind == "length" else QUANTITY_COMPONENT
+        metadata = {"anyOf": _NUMBER_OR_STRING + [_reference(answer)],
                     "description": " ".join(part for part in (description, unit_note) if part),
                     **metadata}
         super().__init__(metadata=metadata, **kwargs)
 
     def _deserialize(self, value: Any, attr: str | None, data: Any, **kwargs: Any) -> float:
         try:
-            number = _scalar(value, self.kind)
+            number = self._from_object(value) if isinstance(value, dict) else _scalar(value, self.kind)
         except UnitError as exc:
             raise ValidationError(str(exc)) from exc
         self._check_range(number)
         return number
+
+    def _from_object(self, value: dict) -> float:
+        tolerances = ("tol", "plus", "minus") if self.kind == "length" else ()
+        members = ("value", "unit", *tolerances)
+        unknown = set(value) - set(members)
+        if unknown:
+            raise ValidationError(f"unknown member(s) {', '.join(sorted(unknown))}; use {', '.join(members)}")
+        if "value" not in value:
+            raise ValidationError("the object form needs a value")
+        if any(value.get(name) for name in tolerances):
+            raise ValidationError("takes no tolerance")
+        unit = value.get("unit", _CANONICAL[self.kind])
+        if not isinstance(unit, str):
+            raise ValidationError(f"unit must be a string such as '{_CANONICAL[self.kind]}'")
+        raw = value["value"]
+        if isinstance(raw, str):
+            return parse_quantity(raw, self.kind)
+        number = check_finite(raw, self.kind)
+        if self.kind == "temperature":  # an offset scale: parse the whole quantity
+            return parse_quantity(f"{number!r} {unit}", self.kind)
+        return number * parse_quantity(f"1 {unit}", self.kind)
 
     def _check_range(self, number: float) -> None:
         if self.minimum is not None and number < self.minimum:
@@ -95,19 +134,22 @@ class Length(Quantity):
 
     def __init__(self, *, minimum: float | None = 0.0, maximum: float | None = None, **kwargs: Any) -> None:
         metadata = kwargs.pop("metadata", {})
-        metadata.setdefault("oneOf", _NUMBER_OR_STRING + [_TOLERANCED_OBJECT])
+        meaning = metadata.get("description", "")
+        metadata.setdefault("anyOf", _NUMBER_OR_STRING + [_reference(LENGTH_COMPONENT),
+                                                          _reference(LENGTH_INPUT_COMPONENT)])
         metadata["description"] = " ".join(part for part in (
-            metadata.get("description", ""),
+            meaning,
             ("A number (mm), a string with units such as \"0.75 in\", or an object with "
-            "value, unit and tol (or plus and minus).")) if part)
+            "value, unit and tol (or plus and minus): a Length from an answer can be sent back.")) if part)
         super().__init__("length", minimum=minimum, maximum=maximum, metadata=metadata, **kwargs)
+        self.meaning = meaning
 
     def _deserialize(self, value: Any, attr: str | None, data: Any, **kwargs: Any) -> Dim:
         if isinstance(value, dict):
-            return self._from_object(value)
+            return self._toleranced(value)
         return Dim(super()._deserialize(value, attr, data, **kwargs))
 
-    def _from_object(self, value: dict) -> Dim:
+    def _toleranced(self, value: dict) -> Dim:
         unknown = set(value) - {"value", "unit", "tol", "plus", "minus"}
         if unknown:
             raise ValidationError(f"unknown member(s) {', '.join(sorted(unknown))}; "
@@ -158,13 +200,23 @@ class Length(Quantity):
 
 
 class Choice(fields.String):
-    """A string from a fixed set, with input aliases mapped onto the canonical names."""
+    """A string from a fixed set, with input aliases mapped onto the canonical names.
+
+    The document publishes one value per choice (the enum lists the canonical names
+    only, so a generated client has one identifier each); the aliases are accepted on
+    input, in any case, and listed in the description for people.
+    """
 
     def __init__(self, choices: tuple[str, ...], aliases: dict[str, str] | None = None, **kwargs: Any) -> None:
         self.choices = choices
         self.aliases = aliases or {}
         metadata = kwargs.pop("metadata", {})
-        metadata.setdefault("enum", list(choices) + sorted(self.aliases))
+        metadata.setdefault("enum", list(choices))
+        self.meaning = metadata.get("description", "")
+        if self.aliases:
+            accepted = "; ".join(f"{alias} for {name}" for alias, name in sorted(self.aliases.items()))
+            metadata["description"] = " ".join(part for part in (
+                metadata.get("description", ""), f"Also accepted on input: {accepted}.") if part)
         super().__init__(metadata=metadata, **kwargs)
 
     def _deserialize(self, value: Any, attr: str | None, data: Any, **kwargs: Any) -> str:
@@ -187,3 +239,61 @@ class WholeNumber(fields.Integer):
         if isinstance(value, float) and not value.is_integer():
             raise self.make_error("invalid")
         return super()._validated(value)
+
+
+# --- how answers write quantities --------------------------------------------------------------
+# One shape everywhere: a length is {"value", "unit", "plus", "minus"} in mm, rounded to
+# 0.001 mm (the engine and the database keep full precision); any other quantity is
+# {"value", "unit"} in its canonical unit. Both can be sent back as input.
+
+ANSWER_DIGITS = {"length": 3, "torque": 3, "pressure": 5, "temperature": 3, "voltage": 3, "angle": 3}
+
+
+def rounded(value: float, digits: int) -> float:
+    """`value` to `digits` decimals, without float noise or a negative zero."""
+    return round(value, digits) + 0.0
+
+
+class QuantitySchema(Schema):
+    """A quantity in an answer: a number and its unit (ASCII, pint-parsable)."""
+
+    value = fields.Float(required=True)
+    unit = fields.String(required=True, metadata={"example": "mm"})
+
+
+class LengthSchema(Schema):
+    """A length in an answer: millimetres, rounded to 0.001 mm, with its tolerance
+    (plus and minus, positive amounts; both 0 when the length is exact)."""
+
+    value = fields.Float(required=True, metadata={"example": 19.0})
+    unit = fields.String(required=True, metadata={"example": "mm", "enum": ["mm"]})
+    plus = fields.Float(required=True, metadata={"example": 0.1})
+    minus = fields.Float(required=True, metadata={"example": 0.1})
+
+
+class LengthValue(fields.Nested):
+    """Writes a `Dim` (or a float in mm) as a `Length` object."""
+
+    def __init__(self, **kwargs: Any) -> None:
+        super().__init__(LengthSchema, **kwargs)
+
+    def _serialize(self, value: Any, attr: str | None, obj: Any, **kwargs: Any) -> Any:
+        if value is None:
+            return None
+        dim = value if isinstance(value, Dim) else Dim(float(value))
+        digits = ANSWER_DIGITS["length"]
+        return {"value": rounded(dim.nominal, digits), "unit": "mm", "plus": rounded(dim.plus, digits),
+                "minus": rounded(dim.minus, digits)}
+
+
+class QuantityValue(fields.Nested):
+    """Writes a float in the kind's canonical unit as a `Quantity` object."""
+
+    def __init__(self, kind: str, **kwargs: Any) -> None:
+        self.kind = kind
+        super().__init__(QuantitySchema, **kwargs)
+
+    def _serialize(self, value: Any, attr: str | None, obj: Any, **kwargs: Any) -> Any:
+        if value is None:
+            return None
+        return {"value": rounded(float(value), ANSWER_DIGITS[self.kind]), "unit": _CANONICAL[self.kind]}

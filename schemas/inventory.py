@@ -37,6 +37,14 @@ class HeadFilterSchema(Schema):
     seat = Choice(SEATS, SEAT_ALIASES)
 
 
+class NewPlugSchema(StoredPlugSchema):
+    """POST body: a new inventory plug under the shop's own sku."""
+
+
+class NewHeadSchema(StoredHeadSchema):
+    """POST body: a new head port under the shop's own head_id."""
+
+
 class PlugReplacementSchema(StoredPlugSchema):
     """PUT body: a whole plug; `sku` may be left out (the path names it) and, if given,
     must equal the path's."""

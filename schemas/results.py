@@ -17,23 +17,21 @@ from service.fitment.codes import FINDING_CODES
 from service.fitment.model import FitResult
 from service.units import from_canonical, output_unit
 
+from .fields import QuantitySchema
+
 VERDICTS = ("pass", "warn", "fail")
 SEVERITIES = ("info", "warn", "fail")
 UNIT_SYSTEMS = ("metric", "imperial")
 GEOMETRY_ENTRIES = ("thread_protrusion", "thread_recess", "tip_position", "piston_margin", "valve_margin")
 
-# Digits kept in numbers and shown in messages, per output unit: micrometres in mm,
-# ten-thousandths in inches (the resolution of the trade's gauges).
-_DIGITS = {"mm": 4, "in": 5}
+# Digits kept in numbers, per output unit: 0.001 mm (a micrometre, finer than any gauge
+# that measures a plug or a port; the engine keeps full precision), and 0.00001 in (a
+# quarter of a micrometre, so an inch figure loses nothing a millimetre figure keeps).
+_DIGITS = {"mm": 3, "in": 5}
 _MESSAGE_FORMAT = {"mm": "{:.2f} mm", "in": "{:.3f} in", "N*m": "{:.1f} N*m", "lbf*ft": "{:.1f} lbf*ft",
                    "kV": "{:.1f} kV", "bar": "{:.2f} bar", "psi": "{:.1f} psi", "N": "{:.0f} N",
                    "lbf": "{:.0f} lbf", "MPa": "{:.0f} MPa", "mm**2": "{:.1f} mm**2", "in**2": "{:.4f} in**2",
                    "K": "{:.0f} K", "deg": "{:.1f} deg", "": "{:.2f}"}
-
-
-class QuantitySchema(Schema):
-    value = fields.Float(required=True)
-    unit = fields.String(required=True, metadata={"example": "mm"})
 
 
 class FindingSchema(Schema):
@@ -109,6 +107,14 @@ class _Converters(dict):
 
 
 _CONVERTERS = {system: _Converters(system) for system in UNIT_SYSTEMS}
+
+
+def quantity_document(value: float | None, kind: str, system: str) -> dict[str, Any] | None:
+    """One quantity of an answer, `{"value", "unit"}`, in the unit system's output unit."""
+    if value is None:
+        return None
+    unit, scale, offset, digits = _CONVERTERS[system][kind]
+    return {"value": round(value * scale + offset, digits) + 0.0, "unit": unit}
 
 
 def render_message(template: str, values: dict[str, dict[str, Any]]) -> str:

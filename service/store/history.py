@@ -45,9 +45,9 @@ class Change:
 
 @cache
 def _schema(kind: str) -> Schema:
-    from schemas.specs import StoredHeadSchema, StoredPlugSchema
+    from schemas.answers import HeadSchema, PlugSchema
 
-    return {PLUG: StoredPlugSchema, HEAD: StoredHeadSchema}[kind]()
+    return {PLUG: PlugSchema, HEAD: HeadSchema}[kind]()
 
 
 def as_shown(kind: str, document: Mapping[str, Any] | None) -> dict[str, Any] | None:

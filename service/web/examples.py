@@ -67,3 +67,16 @@ FIT_RESULT = {
     "engine_version": "1.0.0",
     "catalog_version": "fbcb0fa264fd",
 }
+
+
+def _answer(schema_name: str, request: dict) -> dict:
+    """What the API answers for an example record: the request loaded and written back
+    through the answer schema, so the two examples cannot disagree."""
+    from schemas import answers, specs
+
+    request_schema = {"Plug": specs.StoredPlugSchema, "Head": specs.StoredHeadSchema}[schema_name]
+    return getattr(answers, f"{schema_name}Schema")().dump(request_schema().load(request))
+
+
+PLUG_ANSWER = _answer("Plug", PLUG)
+HEAD_ANSWER = _answer("Head", HEAD)

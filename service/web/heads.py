@@ -3,9 +3,9 @@ from __future__ import annotations
 
 from flask.views import MethodView
 
+from schemas.answers import HeadSchema
 from schemas.history import ChangeSchema, HistoryQuerySchema
-from schemas.inventory import HeadFilterSchema, HeadReplacementSchema
-from schemas.specs import StoredHeadSchema
+from schemas.inventory import HeadFilterSchema, HeadReplacementSchema, NewHeadSchema
 from service.store import db, repository
 from service.web import examples, history_pages, records
 from service.web.smorest import Blueprint
@@ -21,7 +21,7 @@ HEAD_ID_PARAMETER = {"in": "path", "name": "head_id", "description": "The shop's
 class Heads(MethodView):
     @blp.doc(operationId="list_heads")
     @blp.arguments(HeadFilterSchema, location="query")
-    @blp.response(200, StoredHeadSchema(many=True), example=[examples.HEAD])
+    @blp.response(200, HeadSchema(many=True), example=[examples.HEAD_ANSWER])
     @blp.paginate()
     def get(self, filters, pagination_parameters):
         """List heads, filtered by text in the description (q), thread and seat
@@ -36,8 +36,8 @@ class Heads(MethodView):
 
     @blp.doc(operationId="create_head")
     @blp.record_etag
-    @blp.arguments(StoredHeadSchema, example=examples.HEAD)
-    @blp.response(201, StoredHeadSchema, example=examples.HEAD,
+    @blp.arguments(NewHeadSchema, example=examples.HEAD)
+    @blp.response(201, HeadSchema, example=examples.HEAD_ANSWER,
                   headers={"Location": {"description": "URL of the new head", "schema": {"type": "string"}}})
     @blp.alt_response(409, response="CONFLICT")
     def post(self, document):
@@ -53,7 +53,7 @@ class Heads(MethodView):
 class HeadItem(MethodView):
     @blp.doc(operationId="get_head")
     @blp.record_etag
-    @blp.response(200, StoredHeadSchema, example=examples.HEAD)
+    @blp.response(200, HeadSchema, example=examples.HEAD_ANSWER)
     @blp.alt_response(404, response="NOT_FOUND")
     def get(self, head_id):
         """Get one head
@@ -65,7 +65,7 @@ class HeadItem(MethodView):
     @blp.doc(operationId="replace_head")
     @blp.record_etag
     @blp.arguments(HeadReplacementSchema, example=examples.HEAD)
-    @blp.response(200, StoredHeadSchema, example=examples.HEAD)
+    @blp.response(200, HeadSchema, example=examples.HEAD_ANSWER)
     @blp.alt_response(404, response="NOT_FOUND")
     @blp.alt_response(409, response="CONFLICT")
     def put(self, document, head_id):

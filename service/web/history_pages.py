@@ -28,8 +28,8 @@ def _example(record: dict[str, Any], changed_field: str, new_value: Any) -> list
     ]
 
 
-PLUG_EXAMPLE = _example(examples.PLUG, "quantity_on_hand", 11)
-HEAD_EXAMPLE = _example(examples.HEAD, "description", "Example aluminium head, re-measured port")
+PLUG_EXAMPLE = _example(examples.PLUG_ANSWER, "quantity_on_hand", 11)
+HEAD_EXAMPLE = _example(examples.HEAD_ANSWER, "description", "Example aluminium head, re-measured port")
 
 
 def entry_document(row: ChangeRecord) -> dict[str, Any]:

@@ -11,14 +11,14 @@ from flask import Response, current_app
 from flask.views import MethodView
 from sqlalchemy import select
 
+from schemas.answers import PlugSchema
 from schemas.counter import FittingPlugSchema, FittingPlugsQuerySchema, InterchangeQuerySchema, InterchangeSchema
-from schemas.results import result_document
-from schemas.specs import StoredPlugSchema, options_from, plug_spec, port_spec
+from schemas.results import quantity_document, result_document
+from schemas.specs import options_from, plug_spec, port_spec
 from service.catalog_loader import load_catalog
 from service.fitment.interchange import THREAD_END_TOLERANCE_MM, TIP_TOLERANCE_MM, Tolerances
 from service.store import db, repository
 from service.store.models import Plug
-from service.units import from_canonical, output_unit
 from service.usecases import parts_search
 from service.web import examples, records
 from service.web.smorest import Blueprint
@@ -30,7 +30,7 @@ HEAD_ID_PARAMETER = {"in": "path", "name": "head_id", "description": "The head's
 SKU_PARAMETER = {"in": "path", "name": "sku", "description": "The plug's sku (case-sensitive)."}
 
 EXAMPLE_FITTING = [{
-    "sku": "DEMO-P-0001", "verdict": "pass", "plug": examples.PLUG,
+    "sku": "DEMO-P-0001", "verdict": "pass", "plug": examples.PLUG_ANSWER,
     "result": {"verdict": "pass", "thread": "M14x1.25", "findings": [],
                "geometry": {"thread_protrusion": {"nominal": 0.0, "min": -0.3, "max": 0.3, "rss_min": -0.19,
                                                   "rss_max": 0.19, "unit": "mm"}},
@@ -45,10 +45,10 @@ EXAMPLE_INTERCHANGE = [{
     "sku": "DEMO-P-0171", "closeness": {"value": 0.0, "unit": "mm"},
     "differences": {"thread_end": {"value": 0.0, "unit": "mm"}, "tip": {"value": 0.0, "unit": "mm"},
                     "terminal_top": {"value": 2.0, "unit": "mm"}},
-    "hex_differs": False, "plug": examples.PLUG,
+    "hex_differs": False, "plug": examples.PLUG_ANSWER,
 }]
 
-_plug_schema = StoredPlugSchema()
+_plug_schema = PlugSchema()
 
 
 def _filters(query: dict[str, Any]) -> parts_search.PlugFilters:
@@ -109,10 +109,7 @@ class FittingPlugs(MethodView):
 
 
 def _quantity(value: float | None, units: str) -> dict[str, Any] | None:
-    if value is None:
-        return None
-    return {"value": round(from_canonical(value, "length", units), 5 if units == "imperial" else 4),
-            "unit": output_unit("length", units)}
+    return quantity_document(value, "length", units)
 
 
 @blp.route("/plugs/<string:sku>/interchanges", parameters=[SKU_PARAMETER])

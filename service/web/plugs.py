@@ -3,9 +3,9 @@ from __future__ import annotations
 
 from flask.views import MethodView
 
+from schemas.answers import PlugSchema
 from schemas.history import ChangeSchema, HistoryQuerySchema
-from schemas.inventory import PlugFilterSchema, PlugReplacementSchema
-from schemas.specs import StoredPlugSchema
+from schemas.inventory import NewPlugSchema, PlugFilterSchema, PlugReplacementSchema
 from service.store import db, repository
 from service.web import examples, history_pages, records
 from service.web.smorest import Blueprint
@@ -21,7 +21,7 @@ SKU_PARAMETER = {"in": "path", "name": "sku", "description": "The shop's identif
 class Plugs(MethodView):
     @blp.doc(operationId="list_plugs")
     @blp.arguments(PlugFilterSchema, location="query")
-    @blp.response(200, StoredPlugSchema(many=True), example=[examples.PLUG])
+    @blp.response(200, PlugSchema(many=True), example=[examples.PLUG_ANSWER])
     @blp.paginate()
     def get(self, filters, pagination_parameters):
         """List plugs, filtered by thread, seat, reach, hex and resistor
@@ -38,8 +38,8 @@ class Plugs(MethodView):
 
     @blp.doc(operationId="create_plug")
     @blp.record_etag
-    @blp.arguments(StoredPlugSchema, example=examples.PLUG)
-    @blp.response(201, StoredPlugSchema, example=examples.PLUG,
+    @blp.arguments(NewPlugSchema, example=examples.PLUG)
+    @blp.response(201, PlugSchema, example=examples.PLUG_ANSWER,
                   headers={"Location": {"description": "URL of the new plug", "schema": {"type": "string"}}})
     @blp.alt_response(409, response="CONFLICT")
     def post(self, document):
@@ -55,7 +55,7 @@ class Plugs(MethodView):
 class PlugItem(MethodView):
     @blp.doc(operationId="get_plug")
     @blp.record_etag
-    @blp.response(200, StoredPlugSchema, example=examples.PLUG)
+    @blp.response(200, PlugSchema, example=examples.PLUG_ANSWER)
     @blp.alt_response(404, response="NOT_FOUND")
     def get(self, sku):
         """Get one plug
@@ -67,7 +67,7 @@ class PlugItem(MethodView):
     @blp.doc(operationId="replace_plug")
     @blp.record_etag
     @blp.arguments(PlugReplacementSchema, example=examples.PLUG)
-    @blp.response(200, StoredPlugSchema, example=examples.PLUG)
+    @blp.response(200, PlugSchema, example=examples.PLUG_ANSWER)
     @blp.alt_response(404, response="NOT_FOUND")
     @blp.alt_response(409, response="CONFLICT")
     def put(self, document, sku):

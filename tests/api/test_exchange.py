@@ -23,7 +23,7 @@ def test_an_import_answers_with_what_it_did(client, auth):
     assert response.get_json() == {"resource": "plugs", "mode": "upsert", "rows": 2, "added": 2, "changed": 0,
                                    "unchanged": 0, "deleted": 0, "dry_run": False}
     body = client.get("/v1/plugs/A-1").get_json()
-    assert body["reach"] == {"value": 19.0, "unit": "mm", "tol": 0.1}
+    assert body["reach"] == {"value": 19.0, "unit": "mm", "plus": 0.1, "minus": 0.1}
     assert (body["quantity_on_hand"], body["location"]) == (4, "A-01")
 
 

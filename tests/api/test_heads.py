@@ -43,11 +43,12 @@ def test_a_created_head_keeps_every_value_and_tolerance(client, auth):
     response = create(client, auth)
     assert response.headers["Location"] == "/v1/heads/T-TWIN-1"
     body = client.get("/v1/heads/T-TWIN-1").get_json()
-    assert body["port_depth"] == {"value": 17.5, "unit": "mm", "tol": 0.1}
-    assert body["boot_range"] == {"min": 55.0, "max": {"value": 70.0, "unit": "mm", "plus": 1.0, "minus": 2.0}}
+    assert body["port_depth"] == {"value": 17.5, "unit": "mm", "plus": 0.1, "minus": 0.1}
+    assert body["boot_range"] == {"min": {"value": 55.0, "unit": "mm", "plus": 0.0, "minus": 0.0},
+                                  "max": {"value": 70.0, "unit": "mm", "plus": 1.0, "minus": 2.0}}
     assert body["heat_range_band"] == {"scale": "shop", "min": 5.0, "max": 7.0}
-    assert body["intake_temperature"] == "320.0 K"  # written with its unit: a bare number would mean degC
-    assert body["peak_pressure"] == 60.0
+    assert body["intake_temperature"] == {"value": 320.0, "unit": "K"}  # with its unit: a bare number means degC
+    assert body["peak_pressure"] == {"value": 60.0, "unit": "bar"}
     assert body["material"] == "aluminium"
 
 
@@ -62,7 +63,7 @@ def test_a_head_read_back_can_be_sent_back_unchanged(client, auth):
 def test_a_bare_intake_temperature_is_read_as_degrees_celsius(client, auth):
     create(client, auth, intake_temperature=45)
     # 45 degC = 318.15 K (the kelvin is defined with 0 degC = 273.15 K, SI Brochure 9th ed., 2.3.1)
-    assert client.get("/v1/heads/T-TWIN-1").get_json()["intake_temperature"] == "318.15 K"
+    assert client.get("/v1/heads/T-TWIN-1").get_json()["intake_temperature"] == {"value": 318.15, "unit": "K"}
 
 
 def test_creating_a_head_id_that_exists_is_a_409_problem(client, auth):

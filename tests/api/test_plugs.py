@@ -43,12 +43,20 @@ def test_creating_a_plug_answers_201_with_its_location_and_etag(client, auth):
     assert body["reach"] == {"value": 19.0, "unit": "mm", "plus": 0.1, "minus": 0.3}
 
 
+def length(value, plus=0.0, minus=0.0):
+    """A length as every answer writes it."""
+    return {"value": value, "unit": "mm", "plus": plus, "minus": minus}
+
+
 def test_a_created_plug_reads_back_as_sent_and_can_be_sent_back_unchanged(client, auth):
     create(client, auth)
     got = client.get("/v1/plugs/T-14F-19")
     assert got.status_code == 200
     body = got.get_json()
-    assert body == {**PLUG, "nonstandard_thread": False, "heat_range": {"scale": "shop", "value": 6.0}}
+    # One shape for every length, exact or not.
+    assert body == {**PLUG, "nonstandard_thread": False, "heat_range": {"scale": "shop", "value": 6.0},
+                    "reach": length(19.0, 0.1, 0.3), "gasket_thickness": length(1.5), "firing_end": length(4.0),
+                    "terminal_height": length(60.0), "hex": length(16.0), "gap": length(0.8)}
     put = client.put("/v1/plugs/T-14F-19", json=body, headers=auth)
     assert put.status_code == 200
     assert put.get_json() == body
@@ -59,8 +67,9 @@ def test_inputs_in_other_units_and_aliases_are_stored_canonically(client, auth):
     body = response.get_json()
     assert body["thread"] == "M14x1.25"  # contract: a bare M14 means M14x1.25
     assert body["seat"] == "flat"  # contract: gasket is an alias of flat
-    assert body["reach"] == pytest.approx(19.05)  # 0.75 in x 25.4 mm/in (NIST SP 811, exact)
-    assert body["hex"] == pytest.approx(15.875)  # 5/8 in x 25.4 mm/in (NIST SP 811, exact)
+    # Written rounded to 0.001 mm, without the float noise of 0.75 * 25.4 (19.049999999999997).
+    assert body["reach"] == length(19.05)  # 0.75 in x 25.4 mm/in (NIST SP 811, exact)
+    assert body["hex"] == length(15.875)  # 5/8 in x 25.4 mm/in (NIST SP 811, exact)
 
 
 def test_creating_a_sku_that_exists_is_a_409_problem(client, auth):
@@ -134,7 +143,7 @@ def test_replacing_clears_what_the_new_body_leaves_out(client, auth):
     response = client.put("/v1/plugs/T-14F-19", json=replacement, headers=auth)
     assert response.status_code == 200
     assert response.get_json() == {"sku": "T-14F-19", "thread": "M14x1.25", "nonstandard_thread": False,
-                                   "seat": "flat", "reach": 19.0, "description": "", "quantity_on_hand": 0}
+                                   "seat": "flat", "reach": length(19.0), "description": "", "quantity_on_hand": 0}
 
 
 def test_replacing_an_unknown_sku_is_a_404_problem(client, auth):
