@@ -35,9 +35,15 @@ _MESSAGE_FORMAT = {"mm": "{:.2f} mm", "in": "{:.3f} in", "N*m": "{:.1f} N*m", "l
 
 
 class FindingSchema(Schema):
-    code = fields.String(required=True, validate=validate.OneOf(tuple(FINDING_CODES)), metadata={
-        "example": "REACH_LONG", "description": "stable; clients switch on it (README: Finding codes)"})
-    check = fields.String(required=True, validate=validate.OneOf(CHECK_NAMES), metadata={"example": "reach"})
+    # Open strings, not enums: codes and checks are added over time (the contract says so),
+    # and a client generated before a new code must still read the answer that carries it.
+    code = fields.String(required=True, metadata={
+        "example": "REACH_LONG",
+        "description": "stable; clients switch on it (docs/engineering.md, Finding codes): "
+                       f"{', '.join(FINDING_CODES)}. Codes may be added: treat an unknown one by its severity."})
+    check = fields.String(required=True, metadata={
+        "example": "reach", "description": f"the check that made the finding: {', '.join(CHECK_NAMES)}; "
+                                           "checks may be added"})
     severity = fields.String(required=True, validate=validate.OneOf(SEVERITIES))
     message = fields.String(required=True)
     values = fields.Dict(keys=fields.String(), values=fields.Nested(QuantitySchema), required=True)
