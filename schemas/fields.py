@@ -94,9 +94,9 @@ class Quantity(fields.Field):
             raise ValidationError("the object form needs a value")
         if any(value.get(name) for name in tolerances):
             raise ValidationError("takes no tolerance")
-        unit = value.get("unit", _CANONICAL[self.kind])
+        unit = value.get("unit", CANONICAL_UNITS[self.kind])
         if not isinstance(unit, str):
-            raise ValidationError(f"unit must be a string such as '{_CANONICAL[self.kind]}'")
+            raise ValidationError(f"unit must be a string such as '{CANONICAL_UNITS[self.kind]}'")
         raw = value["value"]
         if isinstance(raw, str):
             return parse_quantity(raw, self.kind)
@@ -107,9 +107,9 @@ class Quantity(fields.Field):
 
     def _check_range(self, number: float) -> None:
         if self.minimum is not None and number < self.minimum:
-            raise ValidationError(f"must be at least {self.minimum:g} {_CANONICAL[self.kind]}")
+            raise ValidationError(f"must be at least {self.minimum:g} {CANONICAL_UNITS[self.kind]}")
         if self.maximum is not None and number > self.maximum:
-            raise ValidationError(f"must be at most {self.maximum:g} {_CANONICAL[self.kind]}")
+            raise ValidationError(f"must be at most {self.maximum:g} {CANONICAL_UNITS[self.kind]}")
 
     def _serialize(self, value: Any, attr: str | None, obj: Any, **kwargs: Any) -> Any:
         # A bare temperature reads as degC but is held in K: write the unit, so a stored
@@ -119,7 +119,7 @@ class Quantity(fields.Field):
         return value
 
 
-_CANONICAL = {"length": "mm", "torque": "N*m", "pressure": "bar", "temperature": "K",
+CANONICAL_UNITS = {"length": "mm", "torque": "N*m", "pressure": "bar", "temperature": "K",
               "voltage": "kV", "angle": "deg"}
 
 
@@ -296,4 +296,4 @@ class QuantityValue(fields.Nested):
     def _serialize(self, value: Any, attr: str | None, obj: Any, **kwargs: Any) -> Any:
         if value is None:
             return None
-        return {"value": rounded(float(value), ANSWER_DIGITS[self.kind]), "unit": _CANONICAL[self.kind]}
+        return {"value": rounded(float(value), ANSWER_DIGITS[self.kind]), "unit": CANONICAL_UNITS[self.kind]}

@@ -33,7 +33,7 @@ class FitCheckDiagram(MethodView):
     @auth.access(auth.READ)
     @blp.arguments(UnitsQuerySchema, location="query")
     @blp.arguments(FitCheckRequestSchema, example=examples.FIT_CHECK_INLINE)
-    @blp.response(200, {"type": "string"}, content_type=SVG_MEDIA_TYPE, example=EXAMPLE_SVG,
+    @blp.response(200, {"type": "string", "description": "an SVG document (XML text)"}, content_type=SVG_MEDIA_TYPE, example=EXAMPLE_SVG,
                   description="An SVG section along the plug axis, to scale; findings marked by severity.")
     @blp.alt_response(404, response="NOT_FOUND")
     def post(self, query, request_document):

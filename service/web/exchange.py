@@ -44,12 +44,16 @@ def _request_body(resource: str) -> dict[str, Any]:
         "required": True,
         "description": f"The {resource} file: CSV with a header row (columns in docs/parts-counter.md, section "
                        "'Inventory exchange'; an export is a valid import), or JSON lines with one "
-                       f"{resource[:-1]} object per line in the same shape as the REST API's. UTF-8.",
+                       f"{resource[:-1]} object per line in the same shape as the REST API's "
+                       "(`application/x-ndjson`; `application/jsonl` is accepted too). UTF-8.",
         "content": {
-            "text/csv": {"schema": {"type": "string"},
-                         "example": EXAMPLE_PLUGS_CSV if resource == "plugs" else EXAMPLE_HEADS_CSV},
-            "application/x-ndjson": {"schema": {"type": "string"}, "example": EXAMPLE_PLUGS_JSONL},
-            "application/jsonl": {"schema": {"type": "string"}, "example": EXAMPLE_PLUGS_JSONL},
+            # Raw bytes (`format: binary`), as generators expect a file body to be declared.
+            # CSV last: openapi-python-client makes one `File` body for both and sends it
+            # with the media type declared last (docs/api.md, Generating a client).
+            stock_file.JSON_LINES_MEDIA_TYPES[0]: {"schema": {"type": "string", "format": "binary"},
+                                                  "example": EXAMPLE_PLUGS_JSONL},
+            stock_file.CSV_MEDIA_TYPE: {"schema": {"type": "string", "format": "binary"},
+                                        "example": EXAMPLE_PLUGS_CSV if resource == "plugs" else EXAMPLE_HEADS_CSV},
         },
     }
 

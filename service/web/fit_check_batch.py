@@ -71,7 +71,7 @@ _REQUEST_BODY = {
                    "(section 'Build lists'). At most PLUGFIT_MAX_BATCH_ITEMS items (default 50,000).",
     "content": {
         "application/json": {"schema": BatchRequestSchema, "example": EXAMPLE_REQUEST},
-        "text/csv": {"schema": {"type": "string", "description": "CSV build list, UTF-8"},
+        "text/csv": {"schema": {"type": "string", "format": "binary", "description": "CSV build list, UTF-8"},
                      "example": EXAMPLE_CSV},
     },
 }

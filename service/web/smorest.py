@@ -42,6 +42,7 @@ from webargs import core
 from webargs.flaskparser import FlaskParser
 from werkzeug.exceptions import HTTPException
 
+from schemas.fields import CANONICAL_UNITS, LENGTH_INPUT, LENGTH_INPUT_COMPONENT, Quantity
 from schemas.pages import PageMetadataSchema, PageQuerySchema
 from schemas.problem import PROBLEM_MEDIA_TYPE, ProblemSchema
 from service.web import auth, problems
@@ -91,6 +92,7 @@ class ContractPlugin(BasePlugin):
         super().init_spec(spec)
         self.spec = spec
         components = spec.components
+        components.schema(LENGTH_INPUT_COMPONENT, LENGTH_INPUT)
         components.security_scheme(BEARER_SCHEME, {
             "type": "http", "scheme": "bearer", "description": "An API key made with `plugfit keys create NAME`."})
         components.parameter(IF_MATCH, "header", {
@@ -180,6 +182,17 @@ def _nullable_reference(converter, field, ret: dict, **kwargs: Any) -> dict:
     return {}
 
 
+def _query_quantity(converter, field, ret: dict, **kwargs: Any) -> dict:
+    """apispec parameter attribute function: a quantity in a query string is a number or a
+    string with units; the object forms a body may use cannot be sent there."""
+    if isinstance(field, Quantity) and "anyOf" in ret.get("schema", {}):
+        schema = {**ret["schema"], "anyOf": [form for form in ret["schema"]["anyOf"] if "$ref" not in form]}
+        unit = CANONICAL_UNITS[field.kind]
+        description = " ".join(part for part in (field.meaning, f"A number ({unit}) or a string with units.") if part)
+        return {"schema": schema, "description": description}
+    return {}
+
+
 class Api(flask_smorest.Api):
     """The app's flask-smorest Api: problem+json errors and the contract's document."""
 
@@ -191,6 +204,7 @@ class Api(flask_smorest.Api):
         marshmallow_plugin = spec_kwargs.setdefault("marshmallow_plugin", MarshmallowPlugin())
         super().init_app(app, spec_kwargs=spec_kwargs)
         marshmallow_plugin.converter.add_attribute_function(_nullable_reference)
+        marshmallow_plugin.converter.add_parameter_attribute_function(_query_quantity)
         app.before_request(refuse_unknown_query_parameters)
 
     def handle_http_exception(self, error):
