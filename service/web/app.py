@@ -15,7 +15,7 @@ from flask import Flask
 
 from service import config
 from service.store import db
-from service.web import auth, limits, problems, request_log
+from service.web import auth, limits, problems, reference, request_log
 from service.web.smorest import Api
 
 API_TITLE = "plugfit"
@@ -56,6 +56,10 @@ def create_app(test_config: Mapping[str, Any] | None = None) -> Flask:
         OPENAPI_VERSION="3.0.3",
         OPENAPI_URL_PREFIX="/v1",
         OPENAPI_JSON_PATH="openapi.json",
+        # The browsable reference at /v1/docs, from packaged assets (service.web.reference).
+        OPENAPI_SWAGGER_UI_PATH="docs",
+        OPENAPI_SWAGGER_UI_URL=reference.ASSETS_PATH,
+        OPENAPI_SWAGGER_UI_CONFIG=reference.VIEWER_CONFIG,
         API_SPEC_OPTIONS={"info": {
             "description": "Checks whether a spark plug fits a cylinder-head port: thread, seat, "
                            "reach, clearances, tool access and torque guidance. Torque, clearance "
@@ -79,5 +83,6 @@ def create_app(test_config: Mapping[str, Any] | None = None) -> Flask:
     problems.init_app(app)
     limits.init_app(app)
     register_blueprints(api)
+    app.register_blueprint(reference.blp)
     app.extensions["plugfit.api"] = api
     return app
