@@ -7,10 +7,15 @@ or `--server URL` to have a running service check it. Exit codes, which CI relie
     1  a line fails (or warns, with --fail-on warn) or cannot be read
     2  the file as a whole is unusable, or the command line is wrong
     3  the server cannot be reached (or did not answer as a plugfit service)
+
+With `--format junit` every exit writes a report, 2 and 3 included (one test case in
+error carrying the reason), so a CI step that saves standard output as its JUnit file
+always hands its report reader a valid file.
 """
 from __future__ import annotations
 
 import sys
+from itertools import pairwise
 from pathlib import Path
 from typing import Any
 
@@ -30,9 +35,63 @@ def parse_checks(ctx: click.Context | None, param: click.Parameter | None, value
     return names
 
 
+class CannotCheck(Exception):
+    """The list cannot be checked at all: the file, the command line or the server."""
+
+    def __init__(self, message: str, code: int, kind: str) -> None:
+        super().__init__(message)
+        self.message, self.code, self.kind = message, code, kind
+
+
 def fail(message: str, code: int) -> None:
+    """Say why on standard error and exit with `code` (for `plugfit check`)."""
     click.echo(f"plugfit: {message}", err=True)
     sys.exit(code)
+
+
+def cannot_check(message: str, code: int) -> None:
+    raise CannotCheck(message, code, "unreachable" if code == EXIT_UNREACHABLE else "unusable")
+
+
+# Options that take a value, to find the build list among the arguments of a command
+# line click refused (see `JunitOnEveryExit`).
+_VALUED_OPTIONS = frozenset({"--server", "--api-key", "--format", "--fail-on", "--require", "--units",
+                             "--inventory", "--timeout"})
+
+
+def _junit_wanted(args: list[str]) -> bool:
+    return "--format=junit" in args or ("--format", "junit") in pairwise(args)
+
+
+def _source_in(args: list[str]) -> str:
+    skip = False
+    for arg in args:
+        if skip:
+            skip = False
+        elif arg in _VALUED_OPTIONS:
+            skip = True
+        elif arg == "-" or not arg.startswith("-"):
+            return "<stdin>" if arg == "-" else arg
+    return "build-list"
+
+
+def _junit_error(source: str, message: str, kind: str, code: int) -> None:
+    from service.formats.reports import junit_error_report
+
+    click.echo(junit_error_report(source, message, kind, {"exit_code": str(code)}), nl=False, color=True)
+
+
+class JunitOnEveryExit(click.Command):
+    """`plugfit validate`: with --format junit, a command line click refuses (a missing
+    file, an unknown check) still writes a JUnit report before click exits with 2."""
+
+    def make_context(self, info_name, args, parent=None, **extra):  # type: ignore[override]
+        try:
+            return super().make_context(info_name, list(args), parent=parent, **extra)
+        except click.UsageError as error:
+            if _junit_wanted(list(args)):
+                _junit_error(_source_in(list(args)), error.format_message(), "usage", error.exit_code)
+            raise
 
 
 def _read_input(build_list: str) -> tuple[bytes, str]:
@@ -65,10 +124,10 @@ def _embedded(data: bytes, source: str, units: str, require: list[str], inventor
         fetch = references_from([Path(path) for path in inventory],
                                 warn=lambda message: click.echo(f"plugfit: warning: {message}", err=True))
     except BuildListError as error:
-        fail(f"{source}: the build list cannot be used: " + "\n  ".join([""] + [str(p) for p in error.problems]),
-             EXIT_UNUSABLE)
+        cannot_check(f"{source}: the build list cannot be used: "
+                     + "\n  ".join([""] + [str(p) for p in error.problems]), EXIT_UNUSABLE)
     except UnusableInput as error:
-        fail(str(error), EXIT_UNUSABLE)
+        cannot_check(str(error), EXIT_UNUSABLE)
     return run_batch(raw_items, load_catalog(), fetch, units=units, require=require, split=True,
                      json_only=json_only)
 
@@ -82,16 +141,16 @@ def _remote(data: bytes, source: str, server: str, api_key: str | None, units: s
         return post_build_list(server, data, is_csv=_is_csv(source, text_start), api_key=api_key, units=units,
                                require=require, timeout_s=timeout)
     except ServerUnreachable as error:
-        fail(str(error), EXIT_UNREACHABLE)
+        cannot_check(str(error), EXIT_UNREACHABLE)
     except ServerRefused as error:
         from service.formats.reports import error_lines
 
         details = error_lines(error.errors) if error.errors else []
-        fail("\n  ".join([f"{source}: {error}"] + details[:20]), EXIT_UNUSABLE)
+        cannot_check("\n  ".join([f"{source}: {error}"] + details[:20]), EXIT_UNUSABLE)
     raise AssertionError("unreachable")
 
 
-@click.command("validate")
+@click.command("validate", cls=JunitOnEveryExit)
 @click.argument("build_list", type=click.Path(exists=True, dir_okay=False, allow_dash=True))
 @click.option("--server", metavar="URL", help="Send the list to a running plugfit service instead of "
               "checking it here, e.g. http://127.0.0.1:8000.")
@@ -116,8 +175,21 @@ def command(build_list: str, server: str | None, api_key: str | None, output_for
     Exit 0 when no line fails, 1 when a line fails or cannot be read, 2 when the file
     is unusable or the options are wrong, 3 when --server cannot be reached.
     """
+    source = "<stdin>" if build_list == "-" else build_list
+    try:
+        _validate(build_list, server, api_key, output_format, fail_on, require, units, inventory, timeout)
+    except CannotCheck as failure:
+        click.echo(f"plugfit: {failure.message}", err=True)
+        if output_format == "junit":
+            _junit_error(source, failure.message, failure.kind, failure.code)
+        sys.exit(failure.code)
+
+
+def _validate(build_list: str, server: str | None, api_key: str | None, output_format: str, fail_on: str,
+              require: list[str], units: str, inventory: tuple[str, ...], timeout: float) -> None:
     if server and inventory:
-        raise click.UsageError("--inventory is for embedded runs; with --server the service's own inventory is used")
+        raise CannotCheck("--inventory is for embedded runs; with --server the service's own inventory is used",
+                          EXIT_UNUSABLE, "usage")
     data, source = _read_input(build_list)
     from service.formats.reports import exit_code, summary_exit_code
 

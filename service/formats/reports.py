@@ -209,6 +209,29 @@ def junit_report(answer: dict[str, Any], source: str, fail_on: str = "fail",
     return "\n".join(out) + "\n"
 
 
+def junit_error_report(source: str, message: str, kind: str, properties: dict[str, str] | None = None) -> str:
+    """JUnit XML for a run that could not check the list at all (the file is unusable,
+    the command line is wrong, the server cannot be reached): one test case in error
+    carrying the message, so a CI's report reader shows the real reason instead of
+    failing on an empty file. `kind` is the error's type (unusable, usage, unreachable)."""
+    name = PurePath(source).name or source
+    counts = 'tests="1" failures="0" errors="1" skipped="0"'
+    out = ['<?xml version="1.0" encoding="UTF-8"?>',
+           f'<testsuites name="plugfit validate" {counts}>',
+           f'  <testsuite name={quoteattr(name)} {counts} time="0">']
+    if properties:
+        out.append("    <properties>")
+        out += [f"      <property name={quoteattr(key)} value={quoteattr(value)} />"
+                for key, value in properties.items()]
+        out.append("    </properties>")
+    first = message.strip().splitlines()[0] if message.strip() else kind
+    out.append(f"    <testcase classname={quoteattr(PurePath(source).stem or 'build-list')} "
+               f'name="the build list as a whole" time="0" file={quoteattr(source)}>')
+    out.append(f"      <error type={quoteattr(kind)} message={quoteattr(first)}>{escape(message)}</error>")
+    out += ["    </testcase>", "  </testsuite>", "</testsuites>"]
+    return "\n".join(out) + "\n"
+
+
 # --- one check ------------------------------------------------------------------------------
 
 _GEOMETRY_LABELS = {"thread_protrusion": "thread protrusion", "thread_recess": "thread recess (long side)",

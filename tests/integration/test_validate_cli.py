@@ -260,3 +260,45 @@ def test_a_long_list_checked_by_the_installed_command_over_two_processes_reads_a
     assert json.loads(done.stdout) == json.loads(in_one.output)
     assert json.loads(done.stdout)["summary"] == {"total": 2400, "pass": 800, "warn": 800, "fail": 800,
                                                   "invalid": 0, "verdict": "fail"}
+
+
+# --- JUnit on every exit: a CI step saves standard output as its report -----------------------
+
+
+def junit_error_case(output: str) -> ET.Element:
+    """The report's only test case, which must be in error (ElementTree parses it: valid XML)."""
+    suite = ET.fromstring(output).find("testsuite")
+    assert (suite.get("tests"), suite.get("failures"), suite.get("errors")) == ("1", "0", "1")
+    (case,) = suite.findall("testcase")
+    return case.find("error")
+
+
+def test_junit_is_written_when_the_file_is_unusable(tmp_path):
+    done = run("validate", write(tmp_path, "nothing,here\n1,2\n", "u.csv"), "--format", "junit")
+    assert done.returncode == 2
+    error = junit_error_case(done.stdout)
+    assert error.get("type") == "unusable"
+    assert "unknown column" in error.text and "unknown column" in done.stderr
+
+
+def test_junit_is_written_when_the_server_cannot_be_reached(tmp_path):
+    # Port 9 (discard) on loopback: nothing listens there on a test machine.
+    done = run("validate", write(tmp_path, HEADER + FLUSH), "--server", "http://127.0.0.1:9", "--timeout", "5",
+               "--format", "junit")
+    assert done.returncode == 3
+    error = junit_error_case(done.stdout)
+    assert error.get("type") == "unreachable"
+    assert "cannot reach http://127.0.0.1:9" in error.get("message")
+
+
+@pytest.mark.parametrize("arguments", [
+    ("{missing}", "--format", "junit"),                       # click refuses a path that does not exist
+    ("{list}", "--format=junit", "--require", "pistn"),       # an unknown check
+    ("{list}", "--format", "junit", "--server", "http://127.0.0.1:9", "--inventory", "{list}"),
+])
+def test_junit_is_written_when_the_command_line_is_wrong(tmp_path, arguments):
+    paths = {"missing": str(tmp_path / "nowhere.csv"), "list": write(tmp_path, HEADER + FLUSH)}
+    done = run("validate", *(argument.format(**paths) for argument in arguments))
+    assert done.returncode == 2
+    error = junit_error_case(done.stdout)
+    assert error.get("type") == "usage" and error.get("message")
