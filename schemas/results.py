@@ -7,6 +7,7 @@ writer's output through `FitResultSchema` so the two cannot drift apart.
 """
 from __future__ import annotations
 
+import re
 from functools import lru_cache
 from typing import Any
 
@@ -123,6 +124,38 @@ def quantity_document(value: float | None, kind: str, system: str) -> dict[str, 
     return {"value": round(value * scale + offset, digits) + 0.0, "unit": unit}
 
 
+# A figure a text states in metric units: a number (or a range such as 1.0-1.5) and its unit.
+_STATED_FIGURE = re.compile(r"(-?\d+(?:\.\d+)?)(?:-(\d+(?:\.\d+)?))?\s?(mm|N\*m|N·m|bar)\b")
+_STATED_KINDS = {"mm": "length", "N*m": "torque", "N·m": "torque", "bar": "pressure"}
+
+
+def _restated(match: re.Match, system: str) -> str:
+    kind = _STATED_KINDS[match.group(3)]
+    unit, scale, offset, _ = _CONVERTERS[system][kind]
+    shown = [_MESSAGE_FORMAT[unit].format(float(number) * scale + offset).removesuffix(" " + unit)
+             for number in match.groups()[:2] if number is not None]
+    return "-".join(shown) + " " + unit
+
+
+@lru_cache(maxsize=4096)
+def in_units(text: str, system: str) -> str:
+    """A sentence with the figures it states in metric units (assumptions, fixed messages)
+    restated in `system`'s units. Only figures outside parentheses are restated: a
+    parenthesis cites a source, which is quoted as published."""
+    if system == "metric" or not _STATED_FIGURE.search(text):
+        return text
+    pieces, depth, start = [], 0, 0
+    for index, character in enumerate(text + "("):
+        if character in "()":
+            segment = text[start:index]
+            if depth == 0:
+                segment = _STATED_FIGURE.sub(lambda match: _restated(match, system), segment)
+            pieces.append(segment)
+            depth = max(0, depth + (1 if character == "(" else -1))
+            start = index
+    return "".join(pieces)
+
+
 def render_message(template: str, values: dict[str, dict[str, Any]]) -> str:
     """Fill `{name}` placeholders with the finding's values in the output units."""
     if "{" not in template:
@@ -155,7 +188,8 @@ def result_document(result: FitResult, system: str = "metric", shared: dict | No
             document = shared.get(key)
             if document is None:
                 document = shared[key] = {"code": finding.code, "check": finding.check,
-                                          "severity": finding.severity, "message": finding.message, "values": {}}
+                                          "severity": finding.severity, "message": in_units(finding.message, system),
+                                          "values": {}}
             findings.append(document)
             continue
         values = {}
@@ -163,7 +197,7 @@ def result_document(result: FitResult, system: str = "metric", shared: dict | No
             unit, scale, offset, digits = converters[kind]
             values[name] = {"value": round(value * scale + offset, digits), "unit": unit}
         findings.append({"code": finding.code, "check": finding.check, "severity": finding.severity,
-                         "message": render_message(finding.message, values), "values": values})
+                         "message": in_units(render_message(finding.message, values), system), "values": values})
     torque = None
     guide = result.torque
     if guide is not None:
@@ -177,7 +211,7 @@ def result_document(result: FitResult, system: str = "metric", shared: dict | No
     key = ("assumptions", *result.assumptions)
     assumptions = shared.get(key)
     if assumptions is None:
-        assumptions = shared[key] = list(result.assumptions)
+        assumptions = shared[key] = [in_units(text, system) for text in result.assumptions]
     key = ("cautions", *result.cautions)
     cautions = shared.get(key)
     if cautions is None:

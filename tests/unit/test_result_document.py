@@ -40,6 +40,23 @@ def test_messages_read_in_the_clients_units(check):
     assert metric["values"]["thread_protrusion"] == {"value": 7.5, "unit": "mm"}
 
 
+def test_imperial_assumptions_state_their_figures_in_inches_and_psi_and_quote_sources_as_published(check):
+    """Defaults stated in mm and bar become inches and psi: 1.5 mm = 0.059 in, 0.5 mm =
+    0.020 in, 1.01325 bar = 14.7 psi (1 bar = 14.5038 psi; NIST SP 811, 2008, appendix B).
+    A cited source in parentheses keeps its own words ("gasket 1.5 mm: common practice")."""
+    plug = {key: value for key, value in FLUSH_PLUG.items() if key != "gasket_thickness"}
+    result = check(dict(plug, gap=0.9), dict(FLUSH_HEAD, compression_ratio=10.0, ignition_voltage=30.0))
+    assumptions = result_document(result, "imperial")["assumptions"]
+    stated = [text.split("(")[0] for text in assumptions]  # outside the cited sources
+    assert not any(" mm" in text or " bar" in text for text in stated), assumptions
+    joined = " ".join(assumptions)
+    assert "M14x1.25, 0.059 in, is assumed" in joined
+    assert "flush_tolerance not given: 0.020 in used" in joined
+    assert "intake_pressure not given: 14.7 psi" in joined
+    assert "gasket 1.5 mm: common practice" in joined  # the source, as published
+    assert result_document(result, "metric")["assumptions"] == list(result.assumptions)
+
+
 def test_a_message_without_placeholders_is_left_alone():
     assert render_message("Seat mismatch.", {"x": {"value": 1.0, "unit": "mm"}}) == "Seat mismatch."
 
