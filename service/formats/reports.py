@@ -170,19 +170,10 @@ def junit_report(answer: dict[str, Any], source: str, fail_on: str = "fail",
     """
     failing = failing_verdicts(fail_on)
     results = answer["results"]
-    name = PurePath(source).name or source
     classname = quoteattr(PurePath(source).stem or "build-list")
     failures = sum(1 for r in results if r["verdict"] in failing and r["verdict"] != "invalid")
     errors = sum(1 for r in results if r["verdict"] == "invalid")
-    counts = f'tests="{len(results)}" failures="{failures}" errors="{errors}" skipped="0"'
-    out = ['<?xml version="1.0" encoding="UTF-8"?>',
-           f'<testsuites name="plugfit validate" {counts}>',
-           f'  <testsuite name={quoteattr(name)} {counts} time="0">']
-    if properties:
-        out.append("    <properties>")
-        out += [f"      <property name={quoteattr(key)} value={quoteattr(value)} />"
-                for key, value in properties.items()]
-        out.append("    </properties>")
+    out = _junit_opening(source, len(results), failures, errors, properties)
     file_attribute = quoteattr(source)
     for position, result in enumerate(results, start=1):
         line = f' line="{int(result["line"])}"' if "line" in result else ""
@@ -209,21 +200,27 @@ def junit_report(answer: dict[str, Any], source: str, fail_on: str = "fail",
     return "\n".join(out) + "\n"
 
 
-def junit_error_report(source: str, message: str, kind: str, properties: dict[str, str] | None = None) -> str:
-    """JUnit XML for a run that could not check the list at all (the file is unusable,
-    the command line is wrong, the server cannot be reached): one test case in error
-    carrying the message, so a CI's report reader shows the real reason instead of
-    failing on an empty file. `kind` is the error's type (unusable, usage, unreachable)."""
-    name = PurePath(source).name or source
-    counts = 'tests="1" failures="0" errors="1" skipped="0"'
+def _junit_opening(source: str, tests: int, failures: int, errors: int,
+                   properties: dict[str, str] | None) -> list[str]:
+    """The lines of a report up to its first test case."""
+    counts = f'tests="{tests}" failures="{failures}" errors="{errors}" skipped="0"'
     out = ['<?xml version="1.0" encoding="UTF-8"?>',
            f'<testsuites name="plugfit validate" {counts}>',
-           f'  <testsuite name={quoteattr(name)} {counts} time="0">']
+           f'  <testsuite name={quoteattr(PurePath(source).name or source)} {counts} time="0">']
     if properties:
         out.append("    <properties>")
         out += [f"      <property name={quoteattr(key)} value={quoteattr(value)} />"
                 for key, value in properties.items()]
         out.append("    </properties>")
+    return out
+
+
+def junit_error_report(source: str, message: str, kind: str, properties: dict[str, str] | None = None) -> str:
+    """JUnit XML for a run that could not check the list at all (the file is unusable,
+    the command line is wrong, the server cannot be reached): one test case in error
+    carrying the message, so a CI's report reader shows the real reason instead of
+    failing on an empty file. `kind` is the error's type (unusable, usage, unreachable)."""
+    out = _junit_opening(source, 1, 0, 1, properties)
     first = message.strip().splitlines()[0] if message.strip() else kind
     out.append(f"    <testcase classname={quoteattr(PurePath(source).stem or 'build-list')} "
                f'name="the build list as a whole" time="0" file={quoteattr(source)}>')
