@@ -180,6 +180,7 @@ def result_document(result: FitResult, system: str = "metric", shared: dict | No
     if shared is None:
         shared = {}
     converters = _CONVERTERS[system]
+    metric = system == "metric"  # the engine writes its sentences in metric units
     findings = []
     for finding in result.findings:
         finding_values = finding.values
@@ -187,17 +188,18 @@ def result_document(result: FitResult, system: str = "metric", shared: dict | No
             key = ("finding", finding.code, finding.check, finding.severity, finding.message)
             document = shared.get(key)
             if document is None:
+                message = finding.message if metric else in_units(finding.message, system)
                 document = shared[key] = {"code": finding.code, "check": finding.check,
-                                          "severity": finding.severity, "message": in_units(finding.message, system),
-                                          "values": {}}
+                                          "severity": finding.severity, "message": message, "values": {}}
             findings.append(document)
             continue
         values = {}
         for name, (value, kind) in finding_values.items():
             unit, scale, offset, digits = converters[kind]
             values[name] = {"value": round(value * scale + offset, digits), "unit": unit}
+        message = render_message(finding.message, values)
         findings.append({"code": finding.code, "check": finding.check, "severity": finding.severity,
-                         "message": in_units(render_message(finding.message, values), system), "values": values})
+                         "message": message if metric else in_units(message, system), "values": values})
     torque = None
     guide = result.torque
     if guide is not None:
@@ -211,7 +213,8 @@ def result_document(result: FitResult, system: str = "metric", shared: dict | No
     key = ("assumptions", *result.assumptions)
     assumptions = shared.get(key)
     if assumptions is None:
-        assumptions = shared[key] = [in_units(text, system) for text in result.assumptions]
+        assumptions = shared[key] = list(result.assumptions) if metric else \
+            [in_units(text, system) for text in result.assumptions]
     key = ("cautions", *result.cautions)
     cautions = shared.get(key)
     if cautions is None:

@@ -69,14 +69,15 @@ FIT_RESULT = {
 }
 
 
-def _answer(schema_name: str, request: dict) -> dict:
-    """What the API answers for an example record: the request loaded and written back
-    through the answer schema, so the two examples cannot disagree."""
-    from schemas import answers, specs
 
-    request_schema = {"Plug": specs.StoredPlugSchema, "Head": specs.StoredHeadSchema}[schema_name]
-    return getattr(answers, f"{schema_name}Schema")().dump(request_schema().load(request))
+def _length(value: float, tolerance: float = 0.0) -> dict:
+    return {"value": value, "unit": "mm", "plus": tolerance, "minus": tolerance}
 
 
-PLUG_ANSWER = _answer("Plug", PLUG)
-HEAD_ANSWER = _answer("Head", HEAD)
+# What the API answers for the example records (every length a Length object). Written out
+# rather than computed at import, which would start the unit registry in every process;
+# tests/api/test_openapi.py checks that they are what the answer schemas write.
+PLUG_ANSWER = {**PLUG, "nonstandard_thread": False, "reach": _length(19.0, 0.2), "gasket_thickness": _length(1.5),
+               "firing_end": _length(4.0), "hex": _length(16.0), "gap": _length(0.8)}
+HEAD_ANSWER = {**HEAD, "nonstandard_thread": False, "port_depth": _length(17.5), "piston_clearance": _length(8.0),
+               "well_bore": _length(28.0), "hex": _length(16.0)}

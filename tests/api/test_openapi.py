@@ -166,12 +166,15 @@ def test_lists_document_pagination_with_at_most_1000_per_page(spec):
 def test_the_documented_examples_are_valid_requests_and_answers():
     """The examples shown in the OpenAPI document load through the same schemas as real
     requests, so the documentation cannot show a body the service would refuse."""
+    from schemas.answers import HeadSchema, PlugSchema
     from schemas.results import FitResultSchema
     from schemas.specs import FitCheckRequestSchema, StoredHeadSchema, StoredPlugSchema
     from service.web import examples
 
-    StoredPlugSchema().load(examples.PLUG)
-    StoredHeadSchema().load(examples.HEAD)
+    assert PlugSchema().dump(StoredPlugSchema().load(examples.PLUG)) == examples.PLUG_ANSWER
+    assert HeadSchema().dump(StoredHeadSchema().load(examples.HEAD)) == examples.HEAD_ANSWER
+    StoredPlugSchema().load(examples.PLUG_ANSWER)  # an answer can be sent back
+    StoredHeadSchema().load(examples.HEAD_ANSWER)
     FitCheckRequestSchema().load(examples.FIT_CHECK_INLINE)
     FitCheckRequestSchema().load(examples.FIT_CHECK_BY_REFERENCE)
     assert FitResultSchema().validate(examples.FIT_RESULT) == {}
