@@ -28,8 +28,8 @@ pytestmark = pytest.mark.server
 GENERATOR_CONFIG = REPO / "examples" / "openapi-python-client.yaml"
 PACKAGE = "plugfit_client"
 # The demo shop (seed_catalog/demo/, invented): a flat-seat M14x1.25 head and a plug in it.
-DEMO_HEAD = "DEMO-H-PELLORIN-16"
-DEMO_PLUG = "DEMO-14F-190-SR6"
+DEMO_HEAD = "DEMO-H-VAN-I4"
+DEMO_PLUG = "DEMO-P-0001"
 
 
 @pytest.fixture(scope="module")
