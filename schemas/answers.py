@@ -39,6 +39,8 @@ def answer_field(field: fields.Field, *, name: str) -> fields.Field:
         typed = answer_schema(f"{inner.__name__.removesuffix('Schema')}AnswerSchema", inner) \
             if _has_units(inner) else inner
         return fields.Nested(typed, required=required, allow_none=field.allow_none, metadata=metadata)
+    if isinstance(field, fields.List):
+        return fields.List(answer_field(field.inner, name=f"{name}[]"), required=required, metadata=metadata)
     if isinstance(field, fields.Integer):
         return fields.Integer(required=required, metadata=metadata)
     if isinstance(field, fields.Float):
