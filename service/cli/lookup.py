@@ -154,7 +154,7 @@ def database_fetcher(warn: Warn) -> FetchReferences:
         from sqlalchemy.orm import Session
 
         from service.store import db
-        from service.store.references import fetch_documents
+        from service.store.repository import fetch_documents
 
         engine = db.make_engine(url)
         try:

@@ -1,14 +1,22 @@
-"""Plugs and heads in the database, as the dicts the schemas load and dump.
+"""Plugs and heads in the database: every read of them, and the writes of one record.
 
 The schemas (`schemas.specs.StoredPlugSchema`, `StoredHeadSchema`) load a request into
 a dict of canonical values (lengths as `Dim` in mm); this module writes such a dict into
 a row and reads a row back into the same dict, so the API, the batch and the fit engine
 (`schemas.specs.plug_spec`) all share one representation and nothing a client sent is
 dropped: every tolerance is kept, absent values stay absent.
+
+The reads, by who asks:
+
+- one record, or a page of a filtered list (`Repository`, `plug_query`, `head_query`);
+- every plug and head a build list names, a few thousand per query (`fetch_documents`);
+- the parts counter: the plugs of a thread and seat grouped by design, the plugs of
+  chosen designs in sku order (`plug_designs`, `plugs_of_designs`), and the plugs
+  table's generation, which tells a cache whether any plug changed (`plugs_generation`).
 """
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Collection, Iterable, Sequence
 from dataclasses import dataclass
 from typing import Any, Generic, TypeVar
 
@@ -17,7 +25,7 @@ from sqlalchemy.exc import IntegrityError
 from sqlalchemy.orm import Session
 
 from service.fitment.catalog import HEX_MATCH_MM
-from service.fitment.model import Dim
+from service.fitment.model import Dim, HeatRange, PlugSpec
 from service.store.models import Head, Plug
 
 # A reach filter matches within this many mm, so `reach=19` finds a 3/4 in (19.05 mm)
@@ -254,3 +262,167 @@ def head_query(*, text: str | None = None, thread: str | None = None, seat: str 
     if seat is not None:
         query = query.where(Head.seat == seat)
     return query
+
+
+# --- every plug and head a build list names -------------------------------------------
+
+# Identifiers per IN (...) query: far below SQLite's 32,766 and PostgreSQL's 65,535
+# bound parameters, so a list naming 50,000 distinct skus still needs only ten queries.
+REFERENCE_CHUNK = 5000
+
+
+def _chunks(identifiers: Iterable[str]) -> Iterable[list[str]]:
+    ordered = sorted(identifiers)
+    for start in range(0, len(ordered), REFERENCE_CHUNK):
+        yield ordered[start:start + REFERENCE_CHUNK]
+
+
+def fetch_documents(session: Session, skus: set[str], head_ids: set[str]
+                    ) -> tuple[dict[str, dict[str, Any]], dict[str, dict[str, Any]]]:
+    """The stored documents of every sku and head_id found, fetched all at once.
+
+    A build list of 10,000 lines may name a few hundred skus; one query per line would
+    be 10,000 round trips. Every distinct identifier is fetched with `IN (...)`, a few
+    thousand per query, so a list needs one or two queries whatever its length. Shared
+    by the batch endpoint (the request's session) and the embedded CLI (its own session).
+    """
+    plugs: dict[str, dict[str, Any]] = {}
+    for chunk in _chunks(skus):
+        for row in session.scalars(select(Plug).where(Plug.sku.in_(chunk))):
+            plugs[row.sku] = PLUGS.document_of(row)
+    heads: dict[str, dict[str, Any]] = {}
+    for chunk in _chunks(head_ids):
+        for row in session.scalars(select(Head).where(Head.head_id.in_(chunk))):
+            heads[row.head_id] = HEADS.document_of(row)
+    return plugs, heads
+
+
+def plug_documents_by_id(session: Session, plug_ids: Collection[int]) -> dict[int, dict[str, Any]]:
+    """The stored documents of the plugs with these row ids (a counter page)."""
+    if not plug_ids:
+        return {}
+    return {row.id: PLUGS.document_of(row) for row in session.scalars(select(Plug).where(Plug.id.in_(plug_ids)))}
+
+
+# --- the parts counter: plugs grouped by design ---------------------------------------
+#
+# A large stock list carries each plug design under many skus (pack sizes, branches,
+# bins), and the fit engine's answer depends on the design alone. So the counter reads
+# the candidates grouped by design, from one covering index (`ix_plugs_counter`,
+# migration 0002), and reads skus only for the designs a page shows.
+
+# The columns the engine reads, in `design_spec`'s order; a tuple of their values is a
+# design. ix_plugs_counter holds exactly these, in this order, then sku and quantity_on_hand.
+DESIGN_COLUMNS = (
+    Plug.thread, Plug.seat,
+    Plug.reach_nominal_mm, Plug.reach_plus_mm, Plug.reach_minus_mm,
+    Plug.gasket_thickness_nominal_mm, Plug.gasket_thickness_plus_mm, Plug.gasket_thickness_minus_mm,
+    Plug.firing_end_nominal_mm, Plug.firing_end_plus_mm, Plug.firing_end_minus_mm,
+    Plug.hex_mm, Plug.resistor,
+    Plug.terminal_height_nominal_mm, Plug.terminal_height_plus_mm, Plug.terminal_height_minus_mm,
+    Plug.heat_range_scale, Plug.heat_range_value, Plug.gap_mm,
+)
+_DESIGN_COLUMN_NAMES = tuple(column.key for column in DESIGN_COLUMNS)
+
+Design = tuple  # the values of DESIGN_COLUMNS, in order
+
+
+def _design_dim(nominal: float | None, plus: float | None, minus: float | None) -> Dim | None:
+    return None if nominal is None else Dim(nominal, plus or 0.0, minus or 0.0)
+
+
+def design_spec(design: Design) -> PlugSpec:
+    """The engine's record for a design (read as `PLUGS.document_of` and
+    `schemas.specs.plug_spec` would read one of its rows)."""
+    (thread, seat, rn, rp, rm, gn, gp, gm, fn, fp, fm, hex_mm, resistor, tn, tp, tm,
+     heat_scale, heat_value, gap) = design
+    heat = HeatRange(heat_scale, heat_value) if heat_scale is not None and heat_value is not None else None
+    return PlugSpec(thread, seat, reach=_design_dim(rn, rp, rm), gasket_thickness=_design_dim(gn, gp, gm),
+                    firing_end=_design_dim(fn, fp, fm), hex=hex_mm, resistor=resistor,
+                    terminal_height=_design_dim(tn, tp, tm), heat_range=heat, gap=gap)
+
+
+def plug_designs(session: Session, thread: str, seat: str, *, in_stock: bool = False,
+                 reach_between: tuple[float, float] | None = None,
+                 exclude_sku: str | None = None) -> list[tuple[Design, int]]:
+    """(design, number of plugs) for the plugs of `thread` and `seat`, from the covering
+    index: `in_stock` counts only plugs with quantity_on_hand above zero,
+    `reach_between` narrows the nominal reach (inclusive), `exclude_sku` leaves one out."""
+    query = select(*DESIGN_COLUMNS, func.count()).where(Plug.thread == thread, Plug.seat == seat)
+    if reach_between is not None:
+        query = query.where(Plug.reach_nominal_mm.between(*reach_between))
+    if exclude_sku is not None:
+        query = query.where(Plug.sku != exclude_sku)
+    if in_stock:
+        query = query.where(Plug.quantity_on_hand > 0)
+    query = query.group_by(*DESIGN_COLUMNS)
+    return [(tuple(row[:-1]), row[-1]) for row in session.connection().execute(query).all()]
+
+
+@dataclass(frozen=True, slots=True)
+class CounterRow:
+    """One plug as the counter lists it: the inventory line's own fields and its design."""
+
+    plug_id: int
+    sku: str
+    description: str | None
+    quantity_on_hand: int
+    location: str | None
+    design: Design
+
+
+# Designs per statement when a page is read (each is one arm of a UNION ALL; SQLite
+# allows 500 arms, and 200 arms of about 20 parameters stay far below its 32,766).
+DESIGNS_PER_STATEMENT = 200
+
+
+def _design_condition(design: Design, mark: str) -> tuple[str, list[Any]]:
+    """SQL that matches the plugs of one design (`IS NULL` where a value is missing), and
+    its parameters."""
+    conditions, parameters = [], []
+    for name, value in zip(_DESIGN_COLUMN_NAMES, design, strict=True):
+        if value is None:
+            conditions.append(f"{name} IS NULL")
+        else:
+            conditions.append(f"{name} = {mark}")
+            parameters.append(value)
+    return " AND ".join(conditions), parameters
+
+
+def plugs_of_designs(session: Session, designs: Collection[Design], *, skip: int, take: int,
+                     in_stock: bool = False, exclude_sku: str | None = None) -> list[CounterRow]:
+    """`take` plugs of the given designs in sku order, after the first `skip`.
+
+    Each design is one seek in ix_plugs_counter, whose entries for a design are already
+    in sku order, so each arm reads at most skip + take entries. Written as SQL text:
+    building hundreds of equality expressions per request costs more than the query.
+    sku order is byte order on every backend, as Python sorts (PostgreSQL's default
+    collation would order by locale).
+    """
+    postgres = session.get_bind().dialect.name == "postgresql"
+    mark, collate = ("%s", ' COLLATE "C"') if postgres else ("?", "")
+    row_sql, row_parameters = "", []
+    if in_stock:
+        row_sql += " AND quantity_on_hand > 0"
+    if exclude_sku is not None:
+        row_sql += f" AND sku <> {mark}"
+        row_parameters.append(exclude_sku)
+    wanted = skip + take
+    found: list[tuple[str, tuple, Design]] = []
+    listed = list(designs)
+    for start in range(0, len(listed), DESIGNS_PER_STATEMENT):
+        chunk = listed[start:start + DESIGNS_PER_STATEMENT]
+        arms, parameters = [], []
+        for number, design in enumerate(chunk):
+            condition, values = _design_condition(design, mark)
+            parameters += values + row_parameters
+            arms.append(f"SELECT id, sku, description, quantity_on_hand, location, {number} AS design "
+                        f"FROM (SELECT id, sku, description, quantity_on_hand, location FROM plugs WHERE "
+                        f"{condition}{row_sql} ORDER BY sku{collate} LIMIT {wanted}) AS arm{number}")
+        statement = (f"SELECT id, sku, description, quantity_on_hand, location, design "
+                     f"FROM ({' UNION ALL '.join(arms)}) AS merged ORDER BY sku{collate} LIMIT {wanted}")
+        rows = session.connection().exec_driver_sql(statement, tuple(parameters)).all()
+        found += [(row[1], tuple(row[:5]), chunk[row[5]]) for row in rows]
+    found.sort(key=lambda entry: entry[0])
+    return [CounterRow(*fields, design) for _sku, fields, design in found[skip:wanted]]
+

@@ -25,7 +25,7 @@ from service.formats.build_list import (
     read_json_text,
 )
 from service.store import db
-from service.store.references import fetch_documents
+from service.store.repository import fetch_documents
 from service.usecases.batch import collector_paused, run_batch
 from service.web import auth, problems
 from service.web.smorest import Blueprint

@@ -9,7 +9,6 @@ from typing import Any
 
 from flask import Response, current_app
 from flask.views import MethodView
-from sqlalchemy import select
 
 from schemas.answers import PlugSchema
 from schemas.counter import FittingPlugSchema, FittingPlugsQuerySchema, InterchangeQuerySchema, InterchangeSchema
@@ -18,7 +17,6 @@ from schemas.specs import options_from, plug_spec, port_spec
 from service.catalog_loader import load_catalog
 from service.fitment.interchange import THREAD_END_TOLERANCE_MM, TIP_TOLERANCE_MM, Tolerances
 from service.store import db, repository
-from service.store.models import Plug
 from service.usecases import parts_search
 from service.web import examples, records
 from service.web.smorest import Blueprint
@@ -56,8 +54,8 @@ def _filters(query: dict[str, Any]) -> parts_search.PlugFilters:
 
 
 def _plug_documents(session, plug_ids: list[int]) -> dict[int, dict]:
-    rows = session.scalars(select(Plug).where(Plug.id.in_(plug_ids))) if plug_ids else []
-    return {row.id: _plug_schema.dump(repository.PLUGS.document_of(row)) for row in rows}
+    documents = repository.plug_documents_by_id(session, plug_ids)
+    return {plug_id: _plug_schema.dump(document) for plug_id, document in documents.items()}
 
 
 @blp.route("/heads/<string:head_id>/fitting-plugs", parameters=[HEAD_ID_PARAMETER])
