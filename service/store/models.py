@@ -11,7 +11,7 @@ from __future__ import annotations
 from datetime import UTC, datetime
 from typing import Any, ClassVar
 
-from sqlalchemy import JSON, Boolean, DateTime, Float, Index, Integer, MetaData, String, false
+from sqlalchemy import JSON, BigInteger, Boolean, DateTime, Float, Index, Integer, MetaData, String, false
 from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column
 
 IDENTIFIER_LENGTH = 64
@@ -196,3 +196,15 @@ class ChangeRecord(Base):
         # A record's history page: its entries in order.
         Index("ix_change_history_record", "resource", "identifier", "id"),
     )
+
+
+class TableGeneration(Base):
+    """How many times a table has changed: database triggers (migration 0004) raise
+    `generation` in the same transaction as every insert, update and delete of the
+    table named (today only `plugs`), so a process can tell whether what it derived
+    from the table is still current (`repository.plugs_generation`)."""
+
+    __tablename__ = "table_generations"
+
+    name: Mapped[str] = mapped_column(String(32), primary_key=True)
+    generation: Mapped[int] = mapped_column(BigInteger, nullable=False, default=0, server_default="0")

@@ -26,7 +26,7 @@ from sqlalchemy.orm import Session
 
 from service.fitment.catalog import HEX_MATCH_MM
 from service.fitment.model import Dim, HeatRange, PlugSpec
-from service.store.models import Head, Plug
+from service.store.models import Head, Plug, TableGeneration
 
 # A reach filter matches within this many mm, so `reach=19` finds a 3/4 in (19.05 mm)
 # plug: the trade calls both the same reach.
@@ -426,3 +426,10 @@ def plugs_of_designs(session: Session, designs: Collection[Design], *, skip: int
     found.sort(key=lambda entry: entry[0])
     return [CounterRow(*fields, design) for _sku, fields, design in found[skip:wanted]]
 
+
+def plugs_generation(session: Session) -> int | None:
+    """The plugs table's generation: database triggers (migration 0004) add one in the
+    same transaction as every insert, update and delete of plugs, whoever makes it (the
+    API, an import, a script). None when the counter row is missing (the table was
+    emptied by hand): then nothing derived from plugs may be reused."""
+    return session.scalar(select(TableGeneration.generation).where(TableGeneration.name == "plugs"))
