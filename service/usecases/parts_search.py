@@ -9,11 +9,13 @@ bins), and the engine's answer depends on the design alone. So the candidates ar
 grouped by design (`repository.plug_designs`, from one covering index), the rules run
 once per design, and what comes out (a *ranking*: runs of designs of equal rank, each
 with its number of plugs) depends only on the head, the options, the filters and the
-plugs' designs.
+plugs' designs. It is kept until a plug changes (`plug_cache.cached`, which says why
+that stays correct with several workers and on PostgreSQL), so only the first request
+for a head after a change pays for it.
 
 fitting-plugs, for a head of thread T and seat S:
 
-1. Rank (`rank_fitting`):
+1. Rank (`rank_fitting`, once per head, options and filters until a plug changes):
    a. group the plugs of T and S that pass the filters by design, with their counts;
    b. drop the designs the head's bounds say certainly fail; check with the engine
       the designs whose piston, valve or tool verdict is not certain (few), and every
@@ -46,7 +48,7 @@ from service.fitment.catalog import HEX_MATCH_MM, Catalog
 from service.fitment.counter import FAIL, PASS, WARN, FitBounds, RankKey, classify, fit_bounds, rank_key
 from service.fitment.interchange import Comparison, Tolerances, compare, position
 from service.fitment.model import FitResult, Options, PlugSpec, PortSpec
-from service.store import repository
+from service.store import plug_cache, repository
 from service.store.repository import CounterRow, Design
 
 log = logging.getLogger("plugfit.counter")
@@ -180,7 +182,8 @@ class _Judge:
 @dataclass
 class Ranking:
     """Every candidate design of a head that does not fail, ranked (module doc, step 1).
-    A design outside the pass window is checked (once) when it first lands on a page."""
+    Kept in the plug cache: what is read from it is never changed, except that a design
+    outside the pass window is checked (once) when it first lands on a page."""
 
     judge: _Judge
     passes: list[_Class]
@@ -245,7 +248,8 @@ def fitting_plugs(session, port: PortSpec, options: Options, catalog: Catalog, *
                   filters: PlugFilters = NO_FILTERS, include: Collection[str] = BOTH,
                   offset: int = 0, limit: int = 50) -> FitPage:
     """One page of the inventory plugs that fit `port`, best first (see the module doc)."""
-    ranking = rank_fitting(session, port, options, catalog, filters)
+    ranking = plug_cache.cached(session, ("fitting-plugs", port, options, catalog.version, filters),
+                                lambda: rank_fitting(session, port, options, catalog, filters))
     classes = ranking.classes(include)
     rows = _cut(session, classes, offset, limit, in_stock=filters.in_stock)
     return FitPage(_judged(rows, ranking, include), total=sum(ranked.count for ranked in classes),
@@ -314,7 +318,9 @@ def interchanges(session, original: PlugSpec, original_sku: str, catalog: Catalo
                  offset: int = 0, limit: int = 50) -> InterchangePage:
     """Inventory plugs that can replace `original`, closest first (see
     `service.fitment.interchange` for the rule and its tolerances)."""
-    ranking = rank_interchanges(session, original, original_sku, catalog, filters, tolerances)
+    ranking = plug_cache.cached(
+        session, ("interchanges", original, original_sku, catalog.version, filters, tolerances),
+        lambda: rank_interchanges(session, original, original_sku, catalog, filters, tolerances))
     rows = _cut(session, ranking.classes, offset, limit, in_stock=filters.in_stock, exclude_sku=original_sku)
     return InterchangePage([Interchange(row, *ranking.comparisons[row.design]) for row in rows],
                            sum(ranked.count for ranked in ranking.classes), ranking.designs)

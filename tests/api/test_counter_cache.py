@@ -1,12 +1,18 @@
-"""The database counts every change to plugs itself (migration 0004), on SQLite and,
-under PLUGFIT_TEST_POSTGRES_URL, PostgreSQL."""
+"""The parts counter reuses its rankings only while no plug has changed, on SQLite and,
+under PLUGFIT_TEST_POSTGRES_URL, PostgreSQL: the database counts every change to plugs
+itself (migration 0004), and every process checks that count per request
+(service/store/plug_cache.py)."""
 from __future__ import annotations
 
 import json
 
+import pytest
 from sqlalchemy import text
 
 from service.store import db, repository
+from service.usecases import parts_search
+from service.web import create_app
+from service.web.auth import create_key
 from tests.api.test_counter import HEAD, plug
 
 FITTING = "/v1/heads/T-HEAD/fitting-plugs"
@@ -47,3 +53,66 @@ def test_every_write_to_plugs_raises_the_generation_and_a_head_write_does_not(ap
     assert not raised_by(lambda: client.post("/v1/heads", json=HEAD, headers=auth))
     # A write that is rolled back leaves the count where it was.
     assert not raised_by(lambda: client.post("/v1/plugs", json={**FLUSH, "sku": "K-FLUSH"}, headers=auth))
+
+
+def test_the_ranking_is_built_once_and_again_after_any_change_to_plugs(app, client, auth, monkeypatch):
+    built = []
+    original = parts_search.rank_fitting
+
+    def counting(*args, **kwargs):
+        built.append(args[1])
+        return original(*args, **kwargs)
+
+    monkeypatch.setattr(parts_search, "rank_fitting", counting)
+    client.post("/v1/heads", json=HEAD, headers=auth)
+    client.post("/v1/plugs", json=FLUSH, headers=auth)
+    assert skus(client) == ["K-FLUSH"]
+    assert skus(client) == ["K-FLUSH"]
+    assert skus(client, FITTING + "?page=1") == ["K-FLUSH"]
+    assert len(built) == 1  # three pages, one ranking
+    client.post("/v1/plugs", json=DEEP_TIP, headers=auth)
+    assert skus(client) == ["K-FLUSH", "K-DEEP-TIP"]
+    assert len(built) == 2
+    assert skus(client, FITTING + "?in_stock=true") == ["K-FLUSH", "K-DEEP-TIP"]  # other filters: their own
+    assert len(built) == 3
+
+
+@pytest.fixture
+def second_worker(database_url):
+    """Another app on the same database with its own cache: a second gunicorn worker, or
+    a second server."""
+    other = create_app({"TESTING": True, "DATABASE_URL": database_url})
+    with db.unit_of_work(other) as session:
+        key = create_key(session, "worker-b").key
+        session.commit()
+    yield other.test_client(), {"Authorization": f"Bearer {key}"}
+
+
+def test_a_change_made_through_another_worker_is_listed_on_the_next_request(client, auth, second_worker):
+    other, other_auth = second_worker
+    client.post("/v1/heads", json=HEAD, headers=auth)
+    client.post("/v1/plugs", json=FLUSH, headers=auth)
+    client.post("/v1/plugs", json=DEEP_TIP, headers=auth)
+    assert skus(client) == ["K-FLUSH", "K-DEEP-TIP"]
+    assert skus(other) == ["K-FLUSH", "K-DEEP-TIP"]  # both workers hold a ranking now
+
+    # A firing end of 7 mm puts the tip at 25 mm, 0.5 mm from the piston: PISTON_CONTACT.
+    changed = other.put("/v1/plugs/K-DEEP-TIP", json={**DEEP_TIP, "firing_end": 7.0}, headers=other_auth)
+    assert changed.status_code == 200
+    assert skus(client) == ["K-FLUSH"]  # never the failing plug, not even once
+    other.put("/v1/plugs/K-FLUSH", json={**FLUSH, "quantity_on_hand": 0}, headers=other_auth)
+    assert skus(client, FITTING + "?in_stock=true") == []
+    other.delete("/v1/plugs/K-FLUSH", headers=other_auth)
+    assert skus(client) == []
+    lines = json.dumps(plug("K-IMPORTED", 19.0, 2.0)) + "\n"
+    other.post("/v1/imports/plugs", data=lines, headers={**other_auth, "Content-Type": "application/x-ndjson"})
+    assert skus(client) == ["K-IMPORTED"]
+
+
+def test_interchanges_follow_changes_too(client, auth, second_worker):
+    other, other_auth = second_worker
+    for line in (FLUSH, plug("K-TWIN", 19.0, 2.0)):
+        client.post("/v1/plugs", json=line, headers=auth)
+    assert skus(client, "/v1/plugs/K-FLUSH/interchanges") == ["K-TWIN"]
+    other.post("/v1/plugs", json=plug("K-TWIN-2", 19.0, 2.0), headers=other_auth)
+    assert skus(client, "/v1/plugs/K-FLUSH/interchanges") == ["K-TWIN", "K-TWIN-2"]
