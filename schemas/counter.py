@@ -1,17 +1,21 @@
 """Query strings and answers of the parts-counter searches: fitting plugs and interchanges."""
 from __future__ import annotations
 
-from marshmallow import Schema, fields
+from marshmallow import Schema, fields, validate
 from webargs.fields import DelimitedList
 
+from service.fitment.codes import FINDING_CODES
 from service.fitment.defaults import STACKS
 from service.fitment.interchange import THREAD_END_TOLERANCE_MM, TIP_TOLERANCE_MM
 
 from .answers import PlugSchema
-from .fields import Choice, Quantity
-from .results import UNIT_SYSTEMS, FitResultSchema, QuantitySchema
+from .fields import Choice, Quantity, QuantitySchema
+from .results import UNIT_SYSTEMS, FitResultSchema
+from .specs import HeatRangeSchema
 
 INCLUDE = ("pass", "warn")
+SUMMARY, FULL = "summary", "full"
+DETAILS = (SUMMARY, FULL)
 
 
 class StockFilterSchema(Schema):
@@ -22,6 +26,9 @@ class StockFilterSchema(Schema):
         "description": "only this hex, across flats; matches within 0.3 mm, so 16 finds 5/8 in"})
     units = Choice(UNIT_SYSTEMS, {"si": "metric", "us": "imperial", "inch": "imperial"}, load_default="metric",
                    metadata={"description": "metric (mm, N*m) or imperial (in, lbf*ft)"})
+    detail = Choice(DETAILS, load_default=SUMMARY, metadata={
+        "description": "summary (default): one counter line per plug; full: each line also carries the "
+                       "stored plug (`plug`) and, for fitting plugs, the whole result document (`result`)"})
 
 
 class FittingPlugsQuerySchema(StockFilterSchema):
@@ -47,12 +54,41 @@ class InterchangeQuerySchema(StockFilterSchema):
                                                       "clearance); may only be tightened"})
 
 
-class FittingPlugSchema(Schema):
+class CounterLineSchema(Schema):
+    """The inventory line as a counter lists it: what the clerk fetches from the shelf."""
+
     sku = fields.String(required=True, metadata={"example": "DEMO-P-0001"})
-    verdict = fields.String(required=True, metadata={"description": "pass or warn (failures are not listed)"})
-    plug = fields.Nested(PlugSchema, required=True, metadata={"description": "the inventory line, with stock"})
-    result = fields.Nested(FitResultSchema, required=True, metadata={
-        "description": "the fit check of this plug in this head, as POST /v1/fit-checks answers it"})
+    description = fields.String(required=True, allow_none=True)
+    quantity_on_hand = fields.Integer(required=True, metadata={"description": "stock"})
+    location = fields.String(required=True, allow_none=True, metadata={"description": "the bin"})
+    heat_range = fields.Nested(HeatRangeSchema, required=True, allow_none=True, metadata={
+        "description": "the plug's heat range as stored (null when not given)"})
+    plug = fields.Nested(PlugSchema, metadata={"description": "detail=full only: the stored plug"})
+
+
+class FittingPlugSchema(CounterLineSchema):
+    """One plug that fits the head: the counter line, and with `detail=full` the whole documents."""
+
+    verdict = fields.String(required=True, validate=validate.OneOf(INCLUDE), metadata={
+        "description": "pass or warn (failures are not listed)"})
+    # Open strings, as in the result document's findings: codes are added over time.
+    codes = fields.List(fields.String(), required=True, metadata={
+        "description": "the codes of the check's findings, each once, the most severe first (warn, then "
+                       f"info): {', '.join(FINDING_CODES)}; codes may be added. `detail=full` gives the "
+                       "findings themselves"})
+    protrusion_short_side = fields.Nested(QuantitySchema, required=True, allow_none=True, metadata={
+        "description": "nominal thread end less the port depth (short side): positive, the plug's threads "
+                       "stand into the chamber; negative, head threads are exposed. null: not known"})
+    protrusion_long_side = fields.Nested(QuantitySchema, required=True, allow_none=True, metadata={
+        "description": "the same against the port depth on the long side (equal on a flat roof)"})
+    piston_margin = fields.Nested(QuantitySchema, required=True, allow_none=True, metadata={
+        "description": "the piston margin the verdict used: its worst case (min; rss_min with stack=rss). "
+                       "null: the head gives no piston data"})
+    cautions = fields.List(fields.String(), required=True, metadata={
+        "description": "torque, clearance and gap figures are guidance: the engine maker's data comes first"})
+    result = fields.Nested(FitResultSchema, metadata={
+        "description": "detail=full only: the fit check of this plug in this head, as POST /v1/fit-checks "
+                       "answers it"})
 
 
 class DifferencesSchema(Schema):
@@ -65,11 +101,11 @@ class DifferencesSchema(Schema):
                        "the boot check against the head decides); null when a terminal height is missing"})
 
 
-class InterchangeSchema(Schema):
-    sku = fields.String(required=True, metadata={"example": "DEMO-P-0171"})
+class InterchangeSchema(CounterLineSchema):
+    """One plug that can replace the original: the counter line and how it differs."""
+
     closeness = fields.Nested(QuantitySchema, required=True, metadata={
         "description": "|thread end difference| + |tip difference|: the ranking, smallest first"})
     differences = fields.Nested(DifferencesSchema, required=True)
     hex_differs = fields.Boolean(allow_none=True, required=True, metadata={
         "description": "true: another hex family than the original (have the socket); null: a hex is unknown"})
-    plug = fields.Nested(PlugSchema, required=True)

@@ -1,7 +1,9 @@
 """The parts counter: GET /v1/heads/{head_id}/fitting-plugs and GET /v1/plugs/{sku}/interchanges.
 
-Reads. The search itself is `service.usecases.parts_search` (SQL narrowing, then the engine); this
-module parses the query, fetches the head or the plug, and writes the page.
+Reads. The search itself is `service.usecases.parts_search` (the database groups the
+plugs by design, the engine judges each design once, and the ranking is kept until a
+plug changes); this module parses the query, fetches the head or the plug, and writes
+the page with `service.formats.counter_lines`.
 """
 from __future__ import annotations
 
@@ -11,11 +13,12 @@ from flask import Response, current_app
 from flask.views import MethodView
 
 from schemas.answers import PlugSchema
-from schemas.counter import FittingPlugSchema, FittingPlugsQuerySchema, InterchangeQuerySchema, InterchangeSchema
-from schemas.results import quantity_document, result_document
+from schemas.counter import FULL, FittingPlugSchema, FittingPlugsQuerySchema, InterchangeQuerySchema, InterchangeSchema
+from schemas.results import result_document
 from schemas.specs import options_from, plug_spec, port_spec
 from service.catalog_loader import load_catalog
 from service.fitment.interchange import THREAD_END_TOLERANCE_MM, TIP_TOLERANCE_MM, Tolerances
+from service.formats.counter_lines import FittingLines, interchange_line
 from service.store import db, repository
 from service.usecases import parts_search
 from service.web import examples, records
@@ -28,22 +31,19 @@ HEAD_ID_PARAMETER = {"in": "path", "name": "head_id", "description": "The head's
 SKU_PARAMETER = {"in": "path", "name": "sku", "description": "The plug's sku (case-sensitive)."}
 
 EXAMPLE_FITTING = [{
-    "sku": "DEMO-P-0001", "verdict": "pass", "plug": examples.PLUG_ANSWER,
-    "result": {"verdict": "pass", "thread": "M14x1.25", "findings": [],
-               "geometry": {"thread_protrusion": {"nominal": 0.0, "min": -0.3, "max": 0.3, "rss_min": -0.19,
-                                                  "rss_max": 0.19, "unit": "mm"}},
-               "analysis": {}, "torque": {"min": 25.0, "max": 30.0, "unit": "N*m", "turn_angle_deg": 180.0,
-                                          "source": "common practice"},
-               "assumptions": [], "cautions": [("Torque, clearance and gap values are guidance: the engine "
-                                               "maker's service data, local regulations and licensed practice "
-                                               "come first.")],
-               "engine_version": "1.0.0", "catalog_version": "0123456789ab"},
+    "sku": "DEMO-P-0001", "description": "Invented demo line: M14 flat seat, 19 mm reach, resistor",
+    "quantity_on_hand": 12, "location": "shelf B3", "heat_range": {"scale": "cinderbrook-heat", "value": 6.0},
+    "verdict": "pass", "codes": ["NOT_CHECKED"],
+    "protrusion_short_side": {"value": 0.0, "unit": "mm"}, "protrusion_long_side": {"value": 0.0, "unit": "mm"},
+    "piston_margin": {"value": 3.6, "unit": "mm"}, "cautions": examples.FIT_RESULT["cautions"],
 }]
 EXAMPLE_INTERCHANGE = [{
-    "sku": "DEMO-P-0171", "closeness": {"value": 0.0, "unit": "mm"},
+    "sku": "DEMO-P-0171", "description": "Invented demo line: M14 flat seat, 19 mm reach, resistor",
+    "quantity_on_hand": 4, "location": "shelf B4", "heat_range": {"scale": "cinderbrook-heat", "value": 6.0},
+    "closeness": {"value": 0.0, "unit": "mm"},
     "differences": {"thread_end": {"value": 0.0, "unit": "mm"}, "tip": {"value": 0.0, "unit": "mm"},
                     "terminal_top": {"value": 2.0, "unit": "mm"}},
-    "hex_differs": False, "plug": examples.PLUG_ANSWER,
+    "hex_differs": False,
 }]
 
 _plug_schema = PlugSchema()
@@ -53,9 +53,16 @@ def _filters(query: dict[str, Any]) -> parts_search.PlugFilters:
     return parts_search.PlugFilters(in_stock=query["in_stock"], resistor=query.get("resistor"), hex_mm=query.get("hex"))
 
 
-def _plug_documents(session, plug_ids: list[int]) -> dict[int, dict]:
-    documents = repository.plug_documents_by_id(session, plug_ids)
+def _stored_plugs(session, items: list) -> dict[int, dict]:
+    """The stored plugs of a page, as GET /v1/plugs/{sku} answers them (detail=full)."""
+    documents = repository.plug_documents_by_id(session, [item.plug_id for item in items])
     return {plug_id: _plug_schema.dump(document) for plug_id, document in documents.items()}
+
+
+def _json(body: list[dict[str, Any]]) -> Response:
+    # Written directly: the response schema documents this shape (a test loads answers
+    # through it), and a marshmallow dump of a page costs more than the search.
+    return Response(current_app.json.dumps(body), mimetype="application/json")
 
 
 @blp.route("/heads/<string:head_id>/fitting-plugs", parameters=[HEAD_ID_PARAMETER])
@@ -71,9 +78,13 @@ class FittingPlugs(MethodView):
         Every plug of the head's thread and seat is judged by the same engine as
         `POST /v1/fit-checks`; plugs that fail are left out. Clean passes come first,
         then plugs with warnings (`?include=pass` lists clean passes only). Within each
-        group: closest to flush first (smallest |thread_protrusion| nominal), then the
-        largest worst-case piston margin, then sku. Each entry carries the plug (with its
-        stock) and the full result document, so a counter system can say why.
+        group: closest to flush first (smallest nominal |protrusion|), then the largest
+        worst-case piston margin, then sku.
+
+        Each entry is a counter line: sku, description, stock and bin, heat range, the
+        verdict and its finding codes, both protrusions and the piston margin the
+        verdict used, and the cautions. `detail=full` adds the stored plug (`plug`) and
+        the whole result document (`result`), so a counter system can say why.
 
         Filters: `in_stock=true` (quantity_on_hand above zero), `resistor`, `hex`.
         Check options `stack`, `min_clearance`, `flush_tolerance`, `dynamic_allowance`
@@ -89,25 +100,22 @@ class FittingPlugs(MethodView):
         options = options_from({name: query.get(name) for name in
                                 ("stack", "min_clearance", "flush_tolerance", "dynamic_allowance")})
         page = parts_search.fitting_plugs(session, port_spec(head), options, load_catalog(), filters=_filters(query),
-                                     include=frozenset(query["include"]),
-                                     offset=pagination_parameters.first_item, limit=pagination_parameters.page_size)
+                                          include=frozenset(query["include"]),
+                                          offset=pagination_parameters.first_item,
+                                          limit=pagination_parameters.page_size)
         pagination_parameters.item_count = page.total
-        plugs = _plug_documents(session, [item.plug_id for item in page.items])
         units = query["units"]
-        documents: dict[int, dict] = {}  # plugs of one design share one result
-        body = []
-        for item in page.items:
-            document = documents.get(id(item.result))
-            if document is None:
-                document = documents[id(item.result)] = result_document(item.result, units)
-            body.append({"sku": item.sku, "verdict": item.verdict, "plug": plugs[item.plug_id], "result": document})
-        # Written directly: FittingPlugSchema documents this shape (a test loads answers
-        # through it), and a marshmallow dump of a page of results costs more than the search.
-        return Response(current_app.json.dumps(body), mimetype="application/json")
-
-
-def _quantity(value: float | None, units: str) -> dict[str, Any] | None:
-    return quantity_document(value, "length", units)
+        lines = FittingLines(units, options.stack)
+        body = [lines.line(item.row, item.spec, item.result) for item in page.items]
+        if query["detail"] == FULL:
+            plugs = _stored_plugs(session, page.items)
+            documents: dict[int, dict] = {}  # plugs of one design share one result
+            for line, item in zip(body, page.items, strict=True):
+                document = documents.get(id(item.result))
+                if document is None:
+                    document = documents[id(item.result)] = result_document(item.result, units)
+                line["plug"], line["result"] = plugs[item.plug_id], document
+        return _json(body)
 
 
 @blp.route("/plugs/<string:sku>/interchanges", parameters=[SKU_PARAMETER])
@@ -128,9 +136,11 @@ class Interchanges(MethodView):
         noted (`hex_differs`), not refused. No maker cross-references and no heat-range
         mapping: check a replacement against the head (fitting-plugs) for heat range,
         gap and boot. Ranked by closeness (|thread end difference| + |tip difference|),
-        then same hex first, then sku; each entry gives the differences in mm
-        (`units=imperial`: in). `thread_end_tolerance` and `tip_tolerance` may tighten
-        the tolerances. Filters `in_stock`, `resistor`, `hex`; paginated.
+        then same hex first, then sku. Each entry is a counter line (sku, description,
+        stock and bin, heat range) with the differences in mm (`units=imperial`: in);
+        `detail=full` adds the stored plug (`plug`). `thread_end_tolerance` and
+        `tip_tolerance` may tighten the tolerances. Filters `in_stock`, `resistor`,
+        `hex`; paginated.
         """
         session = db.session()
         original = repository.plugs(session).document(sku)
@@ -139,17 +149,12 @@ class Interchanges(MethodView):
         tolerances = Tolerances(thread_end_mm=query.get("thread_end_tolerance", THREAD_END_TOLERANCE_MM),
                                 tip_mm=query.get("tip_tolerance", TIP_TOLERANCE_MM))
         page = parts_search.interchanges(session, plug_spec(original), sku, load_catalog(), filters=_filters(query),
-                                    tolerances=tolerances, offset=pagination_parameters.first_item,
-                                    limit=pagination_parameters.page_size)
+                                         tolerances=tolerances, offset=pagination_parameters.first_item,
+                                         limit=pagination_parameters.page_size)
         pagination_parameters.item_count = page.total
-        plugs = _plug_documents(session, [item.plug_id for item in page.items])
-        units = query["units"]
-        body = []
-        for item in page.items:
-            comparison = item.comparison
-            body.append({"sku": item.sku, "closeness": _quantity(comparison.closeness, units),
-                         "differences": {"thread_end": _quantity(comparison.thread_end_difference, units),
-                                         "tip": _quantity(comparison.tip_difference, units),
-                                         "terminal_top": _quantity(comparison.terminal_top_difference, units)},
-                         "hex_differs": comparison.hex_differs, "plug": plugs[item.plug_id]})
-        return Response(current_app.json.dumps(body), mimetype="application/json")
+        body = [interchange_line(item.row, item.spec, item.comparison, query["units"]) for item in page.items]
+        if query["detail"] == FULL:
+            plugs = _stored_plugs(session, page.items)
+            for line, item in zip(body, page.items, strict=True):
+                line["plug"] = plugs[item.plug_id]
+        return _json(body)

@@ -56,19 +56,47 @@ def test_fitting_plugs_are_ranked_passes_first_closest_to_flush_then_most_piston
         ("A-FLUSH-SHORT-TIP", "pass"), ("H-OUT-OF-STOCK", "pass"), ("B-FLUSH-LONG-TIP", "pass"),
         ("C-NEAR-FLUSH", "pass"), ("D-NO-RESISTOR", "warn"), ("E-SHORT", "warn")]
     assert json.loads(response.headers["X-Pagination"])["total"] == 6
+    FittingPlugSchema(many=True).load(body)  # the documented shape
+
+
+def test_each_entry_is_the_counter_line_a_clerk_reads(shop):
+    _response, body = listing(shop, "/v1/heads/T-HEAD/fitting-plugs")
+    lines = {entry["sku"]: entry for entry in body}
+    first = lines["A-FLUSH-SHORT-TIP"]
+    # Hand-worked above: flush (19 - 1.5 - 17.5 = 0) on both sides of a flat roof, piston
+    # margin 25.5 - 19.5 = 6.0 mm, exact dimensions so the worst case is the nominal.
+    assert first == {
+        "sku": "A-FLUSH-SHORT-TIP", "description": "", "quantity_on_hand": 3, "location": None, "heat_range": None,
+        "verdict": "pass", "codes": first["codes"],
+        "protrusion_short_side": {"value": 0.0, "unit": "mm"}, "protrusion_long_side": {"value": 0.0, "unit": "mm"},
+        "piston_margin": {"value": 6.0, "unit": "mm"}, "cautions": first["cautions"]}
+    assert "plug" not in first and "result" not in first
+    assert "guidance" in first["cautions"][0]
+    assert set(first["codes"]) <= {"NOT_CHECKED"}  # nothing but checks without data
+    assert lines["D-NO-RESISTOR"]["codes"][0] == "RESISTOR_REQUIRED"  # the warning before the notes
+    # E: 12.7 - 1.5 - 17.5 = -6.3 mm, head threads exposed
+    assert lines["E-SHORT"]["protrusion_short_side"] == {"value": -6.3, "unit": "mm"}
+    assert lines["E-SHORT"]["codes"][0] == "REACH_SHORT"
+
+
+def test_detail_full_adds_the_stored_plug_and_the_whole_result_document(shop):
+    _response, summary = listing(shop, "/v1/heads/T-HEAD/fitting-plugs")
+    _response, body = listing(shop, "/v1/heads/T-HEAD/fitting-plugs?detail=full")
     first = body[0]
     assert first["result"]["geometry"]["piston_margin"]["min"] == pytest.approx(6.0)
-    assert first["plug"]["quantity_on_hand"] == 3
+    assert first["plug"]["quantity_on_hand"] == 3 and first["plug"]["sku"] == first["sku"]
     assert [finding["code"] for finding in body[4]["result"]["findings"]
             if finding["severity"] != "info"] == ["RESISTOR_REQUIRED"]
-    FittingPlugSchema(many=True).load(body)  # the documented shape
+    assert [{key: value for key, value in entry.items() if key not in ("plug", "result")} for entry in body] == summary
+    FittingPlugSchema(many=True).load(body)
+    assert shop.get("/v1/heads/T-HEAD/fitting-plugs?detail=everything").status_code == 422
 
 
 def test_nothing_that_fails_is_listed(shop):
     _response, body = listing(shop, "/v1/heads/T-HEAD/fitting-plugs?page_size=1000")
     skus = {entry["sku"] for entry in body}
     assert not skus & {"F-HITS-PISTON", "G-BIG-HEX", "I-OTHER-THREAD"}
-    assert all(entry["result"]["verdict"] != "fail" for entry in body)
+    assert all(entry["verdict"] != "fail" for entry in body)
 
 
 def test_include_pass_lists_clean_passes_only_and_filters_narrow(shop):
@@ -92,8 +120,23 @@ def test_imperial_units_and_check_options_apply_to_every_entry(shop):
     _response, body = listing(shop, "/v1/heads/T-HEAD/fitting-plugs?units=imperial&min_clearance=3.5")
     # with 3.5 mm minimum clearance, B (margin 3.0 mm) fails and is left out
     assert "B-FLUSH-LONG-TIP" not in [entry["sku"] for entry in body]
-    assert body[0]["result"]["geometry"]["piston_margin"]["unit"] == "in"
-    assert body[0]["result"]["geometry"]["piston_margin"]["min"] == pytest.approx(6.0 / 25.4, abs=1e-5)
+    assert body[0]["piston_margin"] == {"value": pytest.approx(6.0 / 25.4, abs=1e-5), "unit": "in"}
+    _response, full = listing(shop, "/v1/heads/T-HEAD/fitting-plugs?units=imperial&min_clearance=3.5&detail=full")
+    assert full[0]["result"]["geometry"]["piston_margin"]["unit"] == "in"
+
+
+def test_the_margin_shown_is_the_bound_the_verdict_used(client, auth):
+    # A plug with tolerances: firing end 2.0 +0.4, reach 19.0 +0.2/-0.1, exact gasket.
+    # Tip worst case 19.5 + 0.2 + 0.4 = 20.1 mm, so the worst-case margin is 25.5 - 20.1
+    # = 5.4 mm; the RSS one 25.5 - 19.5 - sqrt(0.2² + 0.4²) = 5.5528 mm (hand-worked).
+    assert client.post("/v1/heads", json=HEAD, headers=auth).status_code == 201
+    toleranced = {**plug("T-1", 19.0, 2.0), "reach": {"value": 19.0, "plus": 0.2, "minus": 0.1},
+                  "firing_end": {"value": 2.0, "plus": 0.4, "minus": 0.0}}
+    assert client.post("/v1/plugs", json=toleranced, headers=auth).status_code == 201
+    _response, worst = listing(client, "/v1/heads/T-HEAD/fitting-plugs")
+    _response, rss = listing(client, "/v1/heads/T-HEAD/fitting-plugs?stack=rss")
+    assert worst[0]["piston_margin"]["value"] == pytest.approx(5.4, abs=1e-4)
+    assert rss[0]["piston_margin"]["value"] == pytest.approx(6.0 - (0.2 ** 2 + 0.4 ** 2) ** 0.5, abs=1e-4)
 
 
 def test_an_unknown_head_is_a_404_and_a_bad_query_a_422(shop):
@@ -135,8 +178,12 @@ def test_interchanges_are_ranked_by_closeness_with_differences_in_mm(counter_sto
     assert by_sku["R-LONGER"]["differences"]["thread_end"] == {"value": 0.4, "unit": "mm"}
     assert by_sku["R-TIP-DEEPER"]["differences"]["tip"] == {"value": 0.6, "unit": "mm"}
     assert by_sku["R-OTHER-HEX"]["hex_differs"] is True and by_sku["R-SAME"]["hex_differs"] is False
+    assert by_sku["R-SAME"]["quantity_on_hand"] == 3 and "plug" not in by_sku["R-SAME"]
     assert json.loads(response.headers["X-Pagination"])["total"] == 5
     InterchangeSchema(many=True).load(body)
+    _response, full = listing(counter_stock, "/v1/plugs/R-ORIGINAL/interchanges?detail=full")
+    assert [entry["plug"]["sku"] for entry in full] == [entry["sku"] for entry in body]
+    InterchangeSchema(many=True).load(full)
 
 
 def test_a_plug_without_a_resistor_may_be_replaced_by_one_with(counter_stock):
@@ -157,6 +204,6 @@ def test_the_demo_shop_answers_both_questions(client, runner):
     # The first entries the README's examples show (seed_catalog/demo/generate.py, SHOWCASE).
     _response, fitting = listing(client, "/v1/heads/DEMO-H-VAN-I4/fitting-plugs?page_size=3")
     assert fitting[0]["sku"] == "DEMO-P-0001" and fitting[0]["verdict"] == "pass"
-    _response, replacements = listing(client, "/v1/plugs/DEMO-P-0001/interchanges?page_size=3")
+    _response, replacements = listing(client, "/v1/plugs/DEMO-P-0001/interchanges?page_size=3&detail=full")
     assert replacements[0]["sku"] == "DEMO-P-0171"
     assert all(entry["plug"]["thread"] == "M14x1.25" for entry in replacements)

@@ -1,0 +1,89 @@
+"""The parts counter's answers written as JSON-ready dicts: one line per plug.
+
+`schemas.counter.FittingPlugSchema` and `InterchangeSchema` document the shapes (a test
+loads what is sent through them); these writers are plain Python because a page is
+written on every request and a marshmallow dump of it would cost more than the search.
+A line is what a clerk needs: the inventory line (sku, description, stock, bin, heat
+range) and, for a fitting plug, the verdict, the finding codes, the two protrusions and
+the piston margin the verdict used, with the cautions.
+"""
+from __future__ import annotations
+
+from typing import Any, Protocol
+
+from service.fitment.interchange import Comparison
+from service.fitment.model import FitResult, PlugSpec
+from service.units import from_canonical, output_unit
+
+# The most severe first; a listed plug never has a failing finding.
+_SEVERITY_ORDER = {"fail": 0, "warn": 1, "info": 2}
+# A line's protrusions, read from the result's geometry under the contract's names, or
+# under the names those entries had before the reach policy named them by side.
+PROTRUSION_ENTRIES = {"protrusion_short_side": ("protrusion_short_side", "thread_protrusion"),
+                      "protrusion_long_side": ("protrusion_long_side", "thread_recess")}
+
+
+class InventoryLine(Protocol):
+    """What the writers read of a stored plug (`service.store.repository.CounterRow`)."""
+
+    sku: str
+    description: str | None
+    quantity_on_hand: int
+    location: str | None
+
+
+def length(value: float | None, units: str) -> dict[str, Any] | None:
+    """A length in the client's units, to a micrometre in mm (ten-thousandths in inches
+    to five places), as the result document writes it."""
+    if value is None:
+        return None
+    return {"value": round(from_canonical(value, "length", units), 5 if units == "imperial" else 4),
+            "unit": output_unit("length", units)}
+
+
+def inventory_fields(row: InventoryLine, spec: PlugSpec) -> dict[str, Any]:
+    heat = spec.heat_range
+    return {"sku": row.sku, "description": row.description, "quantity_on_hand": row.quantity_on_hand,
+            "location": row.location, "heat_range": None if heat is None else {"scale": heat.scale, "value": heat.value}}
+
+
+def finding_codes(result: FitResult) -> list[str]:
+    """Each code once, the most severe first, then in the order the checks found them."""
+    ordered = sorted(result.findings, key=lambda finding: _SEVERITY_ORDER[finding.severity])
+    return list(dict.fromkeys(finding.code for finding in ordered))
+
+
+class FittingLines:
+    """Writes the lines of one fitting-plugs page. Plugs of one design share one result,
+    so what comes from the result is worked out once per design."""
+
+    def __init__(self, units: str, stack: str) -> None:
+        self.units = units
+        self.low_bound = 3 if stack == "rss" else 1  # rss_min or min of a geometry entry
+        self._from_results: dict[int, dict[str, Any]] = {}
+
+    def line(self, row: InventoryLine, spec: PlugSpec, result: FitResult) -> dict[str, Any]:
+        from_result = self._from_results.get(id(result))
+        if from_result is None:
+            from_result = self._from_results[id(result)] = self._from_result(result)
+        return {**inventory_fields(row, spec), **from_result}
+
+    def _from_result(self, result: FitResult) -> dict[str, Any]:
+        geometry = result.geometry
+        written: dict[str, Any] = {"verdict": result.verdict, "codes": finding_codes(result)}
+        for name, candidates in PROTRUSION_ENTRIES.items():
+            entry = next((geometry[key] for key in candidates if key in geometry), None)
+            written[name] = None if entry is None else length(entry.nominal, self.units)
+        margin = geometry.get("piston_margin")
+        written["piston_margin"] = None if margin is None else length(margin[self.low_bound], self.units)
+        written["cautions"] = list(result.cautions)
+        return written
+
+
+def interchange_line(row: InventoryLine, spec: PlugSpec, comparison: Comparison, units: str) -> dict[str, Any]:
+    return {**inventory_fields(row, spec),
+            "closeness": length(comparison.closeness, units),
+            "differences": {"thread_end": length(comparison.thread_end_difference, units),
+                            "tip": length(comparison.tip_difference, units),
+                            "terminal_top": length(comparison.terminal_top_difference, units)},
+            "hex_differs": comparison.hex_differs}
