@@ -54,18 +54,21 @@ def finding_codes(result: FitResult) -> list[str]:
 
 
 class FittingLines:
-    """Writes the lines of one fitting-plugs page. Plugs of one design share one result,
-    so what comes from the result is worked out once per design."""
+    """Writes the lines of fitting-plugs pages. Plugs of one design share one result, so
+    what comes from a result is worked out once and kept in `kept`: a dict that must
+    live no longer than the results it describes (they are told apart by identity), such
+    as the search's `FitPage.derived`."""
 
-    def __init__(self, units: str, stack: str) -> None:
+    def __init__(self, units: str, stack: str, kept: dict | None = None) -> None:
         self.units = units
         self.low_bound = 3 if stack == "rss" else 1  # rss_min or min of a geometry entry
-        self._from_results: dict[int, dict[str, Any]] = {}
+        self._kept: dict = {} if kept is None else kept
 
     def line(self, row: InventoryLine, spec: PlugSpec, result: FitResult) -> dict[str, Any]:
-        from_result = self._from_results.get(id(result))
+        key = (id(result), self.units, self.low_bound)
+        from_result = self._kept.get(key)
         if from_result is None:
-            from_result = self._from_results[id(result)] = self._from_result(result)
+            from_result = self._kept[key] = self._from_result(result)
         return {**inventory_fields(row, spec), **from_result}
 
     def _from_result(self, result: FitResult) -> dict[str, Any]:

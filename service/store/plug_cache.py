@@ -21,12 +21,12 @@ worker processes and on SQLite or PostgreSQL:
    new generation, finds nothing filed under it and builds again.
 3. A value is filed under the generation its request read, and is returned only to a
    request that read the same generation. Every change moves the number, so a value
-   built before a change is never returned after it. Values of older generations are
-   dropped as soon as a newer generation is seen.
+   built before a change is never returned after it. Values of other generations are
+   dropped when a request reads a generation other than the last one seen.
 
 The only extra cost is one primary-key read per request. Entries are bounded
-(CAPACITY, least recently used first out). With gthread workers, two threads may build
-the same value at once; both are equal and either is kept.
+(CAPACITY, least recently used first out), and safe to share between the threads of a
+gthread worker.
 """
 from __future__ import annotations
 
@@ -49,38 +49,56 @@ CAPACITY = 32
 SESSION_INFO_KEY = "plugfit.plug_cache"
 
 
-class PlugCache:
-    """Values keyed by the caller's key, valid for one generation of the plugs table."""
+class Memo:
+    """At most `capacity` values by key, the least recently used out first. Safe to share
+    between threads: a value is built outside the lock, so two threads may build the
+    same value at once; both are equal and either is kept."""
 
-    def __init__(self, capacity: int = CAPACITY) -> None:
+    def __init__(self, capacity: int) -> None:
         self.capacity = capacity
         self._lock = threading.Lock()
-        self._generation: int | None = None
         self._entries: OrderedDict[Hashable, Any] = OrderedDict()
 
-    def get_or_build(self, generation: int | None, key: Hashable, build: Callable[[], T]) -> T:
-        """The value filed under `key` at `generation`, else `build()` (filed if the
-        generation is still the newest seen). `generation` None: never reused."""
-        if generation is None:
-            return build()
+    def get_or_build(self, key: Hashable, build: Callable[[], T]) -> T:
         with self._lock:
-            if generation != self._generation:
-                self._entries.clear()
-                self._generation = generation
             value = self._entries.get(key)
             if value is not None:
                 self._entries.move_to_end(key)
                 return value
         value = build()
         with self._lock:
-            if generation == self._generation:
-                self._entries[key] = value
-                while len(self._entries) > self.capacity:
-                    self._entries.popitem(last=False)
+            self._entries[key] = value
+            while len(self._entries) > self.capacity:
+                self._entries.popitem(last=False)
         return value
+
+    def clear(self) -> None:
+        with self._lock:
+            self._entries.clear()
 
     def __len__(self) -> int:
         return len(self._entries)
+
+
+class PlugCache:
+    """Values filed under the caller's key and the plugs table's generation."""
+
+    def __init__(self, capacity: int = CAPACITY) -> None:
+        self._memo = Memo(capacity)
+        self._generation: int | None = None
+
+    def get_or_build(self, generation: int | None, key: Hashable, build: Callable[[], T]) -> T:
+        """The value filed under `key` at `generation`, else `build()`, filed there.
+        `generation` None: never reused."""
+        if generation is None:
+            return build()
+        if generation != self._generation:  # plugs changed: nothing kept is of use any more
+            self._generation = generation
+            self._memo.clear()
+        return self._memo.get_or_build((generation, key), build)
+
+    def __len__(self) -> int:
+        return len(self._memo)
 
 
 def cached(session: Session, key: Hashable, build: Callable[[], T]) -> T:

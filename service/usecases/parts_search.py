@@ -16,7 +16,8 @@ for a head after a change pays for it.
 fitting-plugs, for a head of thread T and seat S:
 
 1. Rank (`rank_fitting`, once per head, options and filters until a plug changes):
-   a. group the plugs of T and S that pass the filters by design, with their counts;
+   a. group the plugs of T and S that pass the filters by design, with their counts
+      (kept too: every head of T and S starts from the same designs);
    b. drop the designs the head's bounds say certainly fail; check with the engine
       the designs whose piston, valve or tool verdict is not certain (few), and every
       design inside the pass window (clean passes can only come from there);
@@ -24,9 +25,9 @@ fitting-plugs, for a head of thread T and seat S:
       certain to warn, so they are ranked without the engine;
    d. sort the passes, then the warnings, by rank key into classes (runs of designs
       with equal keys, whose plugs then follow in sku order).
-2. Cut the page (`_cut`, every request): walk the classes to the requested offset and
-   read the skus of the classes the page overlaps, in sku order, only as many as the
-   page needs (`repository.plugs_of_designs`).
+2. Cut the page (`_cut`, kept with the ranking): walk the classes to the requested
+   offset and read the skus of the classes the page overlaps, in sku order, only as
+   many as the page needs (`repository.plugs_of_designs`).
 3. Judge the page (`_judged`): a design not checked yet is checked now, so every listed
    plug has been checked by the engine, and a failure is never listed.
 
@@ -49,11 +50,15 @@ from service.fitment.counter import FAIL, PASS, WARN, FitBounds, RankKey, classi
 from service.fitment.interchange import Comparison, Tolerances, compare, position
 from service.fitment.model import FitResult, Options, PlugSpec, PortSpec
 from service.store import plug_cache, repository
+from service.store.plug_cache import Memo
 from service.store.repository import CounterRow, Design
 
 log = logging.getLogger("plugfit.counter")
 
 BOTH = frozenset({PASS, WARN})
+# Pages kept per ranking, the most recently asked for (a clerk pages back and forth;
+# at most 1,000 lines each).
+PAGES_KEPT = 4
 
 
 @dataclass(frozen=True)
@@ -97,12 +102,15 @@ class _Class:
     count: int
 
 
-def _candidates(session, thread: str, seat: str, filters: PlugFilters, **narrowing) -> list[_Design]:
-    """The designs of `thread` and `seat` that pass the filters, with their plug counts."""
-    designs = [_Design(values, repository.design_spec(values), count)
-               for values, count in repository.plug_designs(session, thread, seat, in_stock=filters.in_stock,
-                                                            **narrowing)]
-    return [design for design in designs if filters.admits(design.spec)]
+def _designs(session, thread: str, seat: str, in_stock: bool, **narrowing) -> list[tuple[Design, PlugSpec, int]]:
+    """(design, its engine record, number of plugs) for the plugs of `thread` and `seat`."""
+    return [(values, repository.design_spec(values), count)
+            for values, count in repository.plug_designs(session, thread, seat, in_stock=in_stock, **narrowing)]
+
+
+def _candidates(grouped: Iterable[tuple[Design, PlugSpec, int]], filters: PlugFilters) -> list[_Design]:
+    """The designs that pass the filters, each ready to be judged."""
+    return [_Design(values, spec, count) for values, spec, count in grouped if filters.admits(spec)]
 
 
 def _classes(keyed: Iterable[tuple[tuple, _Design]]) -> list[_Class]:
@@ -161,6 +169,9 @@ class FitPage:
     designs: int = 0   # distinct designs among the head's candidates
     checked: int = 0   # designs the engine has checked for this ranking so far
     plugs: int = 0     # candidate plugs of the head's thread and seat, after the filters
+    # For what the caller derives from the items' results (the lines it writes), kept as
+    # long as the ranking is: while it lives, a result is the same object on every page.
+    derived: dict = field(default_factory=dict)
 
 
 @dataclass
@@ -182,8 +193,10 @@ class _Judge:
 @dataclass
 class Ranking:
     """Every candidate design of a head that does not fail, ranked (module doc, step 1).
-    Kept in the plug cache: what is read from it is never changed, except that a design
-    outside the pass window is checked (once) when it first lands on a page."""
+    Kept in the plug cache with the pages cut from it (step 2), which are as current as
+    the ranking: the plug cache drops both when a plug changes. Nothing read from it is
+    ever changed, except that a design outside the pass window is checked (once) when
+    it first lands on a page."""
 
     judge: _Judge
     passes: list[_Class]
@@ -191,6 +204,8 @@ class Ranking:
     listed: dict[Design, _Design]
     designs: int
     plugs: int
+    pages: Memo = field(default_factory=lambda: Memo(PAGES_KEPT))
+    derived: dict = field(default_factory=dict)  # see FitPage.derived
 
     def classes(self, include: Collection[str]) -> list[_Class]:
         """The classes of the verdicts asked for: passes first, then warnings."""
@@ -218,7 +233,11 @@ def rank_fitting(session, port: PortSpec, options: Options, catalog: Catalog,
     """The ranking of every plug of `port`'s thread and seat that does not fail."""
     bounds = fit_bounds(port, options, catalog)
     judge = _Judge(port, options, catalog)
-    candidates = _candidates(session, port.thread, port.seat, filters)
+    # The same for every head of this thread and seat: kept apart, so the next head
+    # asked for need not group the plugs again.
+    grouped = plug_cache.cached(session, ("designs", port.thread, port.seat, filters.in_stock),
+                                lambda: _designs(session, port.thread, port.seat, filters.in_stock))
+    candidates = _candidates(grouped, filters)
     passes: list[tuple[tuple, _Design]] = []
     warnings: list[tuple[tuple, _Design]] = []
     for design in candidates:
@@ -251,9 +270,11 @@ def fitting_plugs(session, port: PortSpec, options: Options, catalog: Catalog, *
     ranking = plug_cache.cached(session, ("fitting-plugs", port, options, catalog.version, filters),
                                 lambda: rank_fitting(session, port, options, catalog, filters))
     classes = ranking.classes(include)
-    rows = _cut(session, classes, offset, limit, in_stock=filters.in_stock)
-    return FitPage(_judged(rows, ranking, include), total=sum(ranked.count for ranked in classes),
-                   designs=ranking.designs, checked=ranking.judge.checked, plugs=ranking.plugs)
+    items = ranking.pages.get_or_build(
+        (frozenset(include), offset, limit),
+        lambda: _judged(_cut(session, classes, offset, limit, in_stock=filters.in_stock), ranking, include))
+    return FitPage(items, total=sum(ranked.count for ranked in classes), designs=ranking.designs,
+                   checked=ranking.judge.checked, plugs=ranking.plugs, derived=ranking.derived)
 
 
 # --- interchanges ---------------------------------------------------------------------
@@ -288,6 +309,7 @@ class InterchangeRanking:
     classes: list[_Class]
     comparisons: dict[Design, tuple[PlugSpec, Comparison]] = field(default_factory=dict)
     designs: int = 0
+    pages: Memo = field(default_factory=lambda: Memo(PAGES_KEPT))
 
 
 def rank_interchanges(session, original: PlugSpec, original_sku: str, catalog: Catalog,
@@ -301,8 +323,9 @@ def rank_interchanges(session, original: PlugSpec, original_sku: str, catalog: C
     # candidate lies in this range: an index range on reach, before the exact rule.
     gasket_span = 0.0 if original.seat == "conical" else MAX_GASKET_MM
     low, high = here.thread_end - tolerances.thread_end_mm, here.thread_end + tolerances.thread_end_mm
-    candidates = _candidates(session, original.thread, original.seat, filters,
-                             reach_between=(low - 1e-6, high + gasket_span + 1e-6), exclude_sku=original_sku)
+    candidates = _candidates(_designs(session, original.thread, original.seat, filters.in_stock,
+                                      reach_between=(low - 1e-6, high + gasket_span + 1e-6),
+                                      exclude_sku=original_sku), filters)
     comparisons: dict[Design, tuple[PlugSpec, Comparison]] = {}
     matches: list[tuple[tuple, _Design]] = []
     for design in candidates:
@@ -321,6 +344,7 @@ def interchanges(session, original: PlugSpec, original_sku: str, catalog: Catalo
     ranking = plug_cache.cached(
         session, ("interchanges", original, original_sku, catalog.version, filters, tolerances),
         lambda: rank_interchanges(session, original, original_sku, catalog, filters, tolerances))
-    rows = _cut(session, ranking.classes, offset, limit, in_stock=filters.in_stock, exclude_sku=original_sku)
-    return InterchangePage([Interchange(row, *ranking.comparisons[row.design]) for row in rows],
-                           sum(ranked.count for ranked in ranking.classes), ranking.designs)
+    items = ranking.pages.get_or_build((offset, limit), lambda: [
+        Interchange(row, *ranking.comparisons[row.design])
+        for row in _cut(session, ranking.classes, offset, limit, in_stock=filters.in_stock, exclude_sku=original_sku)])
+    return InterchangePage(items, sum(ranked.count for ranked in ranking.classes), ranking.designs)

@@ -105,7 +105,7 @@ class FittingPlugs(MethodView):
                                           limit=pagination_parameters.page_size)
         pagination_parameters.item_count = page.total
         units = query["units"]
-        lines = FittingLines(units, options.stack)
+        lines = FittingLines(units, options.stack, kept=page.derived)
         body = [lines.line(item.row, item.spec, item.result) for item in page.items]
         if query["detail"] == FULL:
             plugs = _stored_plugs(session, page.items)

@@ -30,7 +30,7 @@ def test_without_a_generation_nothing_is_reused():
     assert build.calls == 2 and len(cache) == 0
 
 
-def test_a_value_built_for_a_generation_overtaken_meanwhile_is_not_filed():
+def test_a_value_built_for_a_generation_overtaken_meanwhile_is_not_returned_for_the_new_one():
     cache, build = PlugCache(), Builder()
 
     def slow_build():  # another request sees generation 9 while this one builds for 8
