@@ -18,7 +18,7 @@ PORT   ?= 8000
 # makes and drops a scratch database of its own). REQUIRE_POSTGRES=1 makes its absence fatal.
 POSTGRES_URL ?= postgresql+psycopg://postgres@127.0.0.1:5432/postgres
 
-.PHONY: run test test-sqlite test-postgres lint venv venv-test migrate seed serve bench bench-load
+.PHONY: run test test-sqlite test-postgres lint venv venv-test migrate seed serve bench bench-load bench-counter
 
 ## Set up the virtual environment with the runtime dependencies (again only when
 ## pyproject.toml changed).
@@ -83,3 +83,12 @@ bench: venv-test
 ## Load benchmark over loopback (see benchmarks/bench_load.py; uses wrk when installed).
 bench-load: venv-test
 	$(BIN)/python benchmarks/bench_load.py
+
+## The parts counter over 100,000 plugs and under 32 connections (benchmarks/bench_counter.py;
+## uses wrk when installed), on SQLite and, when a server answers at POSTGRES_URL, PostgreSQL.
+bench-counter: venv-test
+	@if $(BIN)/python -m tests.postgres reachable '$(POSTGRES_URL)'; then \
+	  $(BIN)/python benchmarks/bench_counter.py --postgres '$(POSTGRES_URL)'; \
+	else \
+	  echo "*** no PostgreSQL answers at $(POSTGRES_URL): SQLite only"; $(BIN)/python benchmarks/bench_counter.py; \
+	fi

@@ -108,16 +108,19 @@ def _wait_until_healthy(url: str, process: subprocess.Popen, deadline_s: float =
 
 
 @contextmanager
-def started_server(extra_env: dict[str, str]) -> Iterator[str]:
-    """Migrate a fresh SQLite database (unless PLUGFIT_DATABASE_URL says otherwise),
-    start `plugfit serve` on a free loopback port, yield its URL, stop it by its pid."""
+def started_server(extra_env: dict[str, str], seed: tuple[str, ...] | None = ("seed",)
+                   ) -> Iterator[tuple[str, int]]:
+    """Migrate a fresh SQLite database (unless PLUGFIT_DATABASE_URL says otherwise) and
+    run the `seed` command on it (None: none), start `plugfit serve` on a free loopback
+    port, yield its URL and process id, stop it by its pid."""
     workdir = Path(tempfile.mkdtemp(prefix="plugfit-load-"))
     env = {**os.environ, **extra_env}
     env.setdefault("PLUGFIT_DATABASE_URL", f"sqlite:///{workdir / 'plugfit.db'}")
     env.setdefault("PLUGFIT_LOG_LEVEL", "WARNING")
     plugfit = [sys.executable, "-m", "service.cli"]
-    for command in (["db", "upgrade"], ["seed"]):
-        subprocess.run(plugfit + command, env=env, cwd=REPO, check=True, stdout=subprocess.DEVNULL)
+    for command in (["db", "upgrade"], list(seed or ())):
+        if command:
+            subprocess.run(plugfit + command, env=env, cwd=REPO, check=True, stdout=subprocess.DEVNULL)
     port = _free_port()
     url = f"http://{LOOPBACK}:{port}"
     log = open(workdir / "server.log", "wb")
@@ -125,7 +128,7 @@ def started_server(extra_env: dict[str, str]) -> Iterator[str]:
                                env=env, cwd=REPO, stdout=log, stderr=subprocess.STDOUT)
     try:
         _wait_until_healthy(url, process)
-        yield url
+        yield url, process.pid
     finally:
         process.send_signal(signal.SIGTERM)  # gunicorn's graceful stop
         try:
@@ -312,7 +315,7 @@ def main(argv: list[str] | None = None) -> int:
         target = _loopback_only(args.url)
         figures = measure(target, generator, args.connections, args.seconds, args.max_requests, args.rounds)
     else:
-        with started_server(server_env) as target:
+        with started_server(server_env) as (target, _pid):
             figures = measure(target, generator, args.connections, args.seconds, args.max_requests, args.rounds)
 
     print(f"{args.connections} connections, median of {args.rounds} rounds of {args.seconds:g} s per scenario, "
