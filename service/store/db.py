@@ -16,7 +16,7 @@ from sqlalchemy import Engine, create_engine, event, text
 from sqlalchemy.engine import make_url
 from sqlalchemy.orm import Session, sessionmaker
 
-from service.store.plug_cache import SESSION_INFO_KEY, PlugCache
+from service.store.records_cache import SESSION_INFO_KEY, RecordsCache
 
 EXTENSION_KEY = "plugfit.db"
 MIGRATIONS_DIR = Path(__file__).resolve().parents[2] / "migrations"
@@ -71,11 +71,11 @@ class Database:
     def __init__(self, url: str, timeout_s: int = DEFAULT_TIMEOUT_S) -> None:
         self.url = url
         self.engine = make_engine(url, timeout_s)
-        # What the parts counter derived from the plugs (service/store/plug_cache.py),
-        # handed to every session of this database.
-        self.plug_cache = PlugCache()
+        # What the parts counter derived from the plugs and heads
+        # (service/store/records_cache.py), handed to every session of this database.
+        self.records_cache = RecordsCache()
         self.sessions = sessionmaker(self.engine, expire_on_commit=False,
-                                     info={SESSION_INFO_KEY: self.plug_cache})
+                                     info={SESSION_INFO_KEY: self.records_cache})
 
     @contextmanager
     def unit_of_work(self) -> Iterator[Session]:

@@ -201,8 +201,8 @@ class ChangeRecord(Base):
 class TableGeneration(Base):
     """How many times a table has changed: database triggers (migration 0004) raise
     `generation` in the same transaction as every insert, update and delete of the
-    table named (today only `plugs`), so a process can tell whether what it derived
-    from the table is still current (`repository.plugs_generation`)."""
+    table named (`plugs`, `heads`), so a process can tell whether what it derived from
+    those tables is still current (`repository.records_generation`)."""
 
     __tablename__ = "table_generations"
 

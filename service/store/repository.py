@@ -11,8 +11,8 @@ The reads, by who asks:
 - one record, or a page of a filtered list (`Repository`, `plug_query`, `head_query`);
 - every plug and head a build list names, a few thousand per query (`fetch_documents`);
 - the parts counter: the plugs of a thread and seat grouped by design, the plugs of
-  chosen designs in sku order (`plug_designs`, `plugs_of_designs`), and the plugs
-  table's generation, which tells a cache whether any plug changed (`plugs_generation`).
+  chosen designs in sku order (`plug_designs`, `plugs_of_designs`), and the tables'
+  generations, which tell a cache whether any plug or head changed (`records_generation`).
 """
 from __future__ import annotations
 
@@ -427,9 +427,18 @@ def plugs_of_designs(session: Session, designs: Collection[Design], *, skip: int
     return [CounterRow(*fields, design) for _sku, fields, design in found[skip:wanted]]
 
 
-def plugs_generation(session: Session) -> int | None:
-    """The plugs table's generation: database triggers (migration 0004) add one in the
-    same transaction as every insert, update and delete of plugs, whoever makes it (the
-    API, an import, a script). None when the counter row is missing (the table was
-    emptied by hand): then nothing derived from plugs may be reused."""
-    return session.scalar(select(TableGeneration.generation).where(TableGeneration.name == "plugs"))
+GENERATION_TABLES = ("plugs", "heads")
+
+
+def records_generation(session: Session) -> tuple[int, ...] | None:
+    """The generations of the plugs and heads tables: database triggers (migration 0004)
+    raise a table's number in the same transaction as every insert, update and delete
+    of its rows, whoever makes it (the API, an import, a script). None when a counter
+    row is missing (the table was emptied by hand): then nothing derived from plugs or
+    heads may be reused."""
+    rows = session.execute(select(TableGeneration.name, TableGeneration.generation)
+                           .where(TableGeneration.name.in_(GENERATION_TABLES))).all()
+    generations = dict(rows)
+    if len(generations) < len(GENERATION_TABLES):
+        return None
+    return tuple(generations[name] for name in GENERATION_TABLES)

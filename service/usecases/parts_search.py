@@ -9,9 +9,10 @@ bins), and the engine's answer depends on the design alone. So the candidates ar
 grouped by design (`repository.plug_designs`, from one covering index), the rules run
 once per design, and what comes out (a *ranking*: runs of designs of equal rank, each
 with its number of plugs) depends only on the head, the options, the filters and the
-plugs' designs. It is kept until a plug changes (`plug_cache.cached`, which says why
-that stays correct with several workers and on PostgreSQL), so only the first request
-for a head after a change pays for it.
+plugs' designs. It is kept, with the stored head's port and the pages cut from it,
+until a plug or head changes (`records_cache`, which says why that stays correct with
+several workers and on PostgreSQL), so only the first request for a head after a
+change pays for it.
 
 fitting-plugs, for a head of thread T and seat S:
 
@@ -42,15 +43,16 @@ from collections.abc import Collection, Iterable
 from dataclasses import dataclass, field
 from itertools import groupby
 from operator import itemgetter
+from typing import Any
 
-from schemas.specs import MAX_GASKET_MM
+from schemas.specs import MAX_GASKET_MM, plug_spec, port_spec
 from service.fitment import check_fit
 from service.fitment.catalog import HEX_MATCH_MM, Catalog
 from service.fitment.counter import FAIL, PASS, WARN, FitBounds, RankKey, classify, fit_bounds, rank_key
 from service.fitment.interchange import Comparison, Tolerances, compare, position
 from service.fitment.model import FitResult, Options, PlugSpec, PortSpec
-from service.store import plug_cache, repository
-from service.store.plug_cache import Memo
+from service.store import records_cache, repository
+from service.store.records_cache import Memo, View
 from service.store.repository import CounterRow, Design
 
 log = logging.getLogger("plugfit.counter")
@@ -193,8 +195,8 @@ class _Judge:
 @dataclass
 class Ranking:
     """Every candidate design of a head that does not fail, ranked (module doc, step 1).
-    Kept in the plug cache with the pages cut from it (step 2), which are as current as
-    the ranking: the plug cache drops both when a plug changes. Nothing read from it is
+    Kept in the records cache with the pages cut from it (step 2), which are as current
+    as the ranking: the cache drops both when a plug or head changes. Nothing read from it is
     ever changed, except that a design outside the pass window is checked (once) when
     it first lands on a page."""
 
@@ -229,14 +231,15 @@ def _class_key(design: _Design, bounds: FitBounds, verdict: str) -> tuple:
 
 
 def rank_fitting(session, port: PortSpec, options: Options, catalog: Catalog,
-                 filters: PlugFilters = NO_FILTERS) -> Ranking:
+                 filters: PlugFilters = NO_FILTERS, view: View | None = None) -> Ranking:
     """The ranking of every plug of `port`'s thread and seat that does not fail."""
     bounds = fit_bounds(port, options, catalog)
     judge = _Judge(port, options, catalog)
     # The same for every head of this thread and seat: kept apart, so the next head
     # asked for need not group the plugs again.
-    grouped = plug_cache.cached(session, ("designs", port.thread, port.seat, filters.in_stock),
-                                lambda: _designs(session, port.thread, port.seat, filters.in_stock))
+    grouped = (view or records_cache.view(session)).get_or_build(
+        ("designs", port.thread, port.seat, filters.in_stock),
+        lambda: _designs(session, port.thread, port.seat, filters.in_stock))
     candidates = _candidates(grouped, filters)
     passes: list[tuple[tuple, _Design]] = []
     warnings: list[tuple[tuple, _Design]] = []
@@ -265,16 +268,32 @@ def _judged(rows: list[CounterRow], ranking: Ranking, include: Collection[str]) 
 
 def fitting_plugs(session, port: PortSpec, options: Options, catalog: Catalog, *,
                   filters: PlugFilters = NO_FILTERS, include: Collection[str] = BOTH,
-                  offset: int = 0, limit: int = 50) -> FitPage:
-    """One page of the inventory plugs that fit `port`, best first (see the module doc)."""
-    ranking = plug_cache.cached(session, ("fitting-plugs", port, options, catalog.version, filters),
-                                lambda: rank_fitting(session, port, options, catalog, filters))
+                  offset: int = 0, limit: int = 50, view: View | None = None) -> FitPage:
+    """One page of the inventory plugs that fit `port`, best first (see the module doc).
+    `view`: the request's view of the records cache, if it has opened one."""
+    view = view or records_cache.view(session)
+    ranking = view.get_or_build(("fitting-plugs", port, options, catalog.version, filters),
+                                lambda: rank_fitting(session, port, options, catalog, filters, view))
     classes = ranking.classes(include)
     items = ranking.pages.get_or_build(
         (frozenset(include), offset, limit),
         lambda: _judged(_cut(session, classes, offset, limit, in_stock=filters.in_stock), ranking, include))
     return FitPage(items, total=sum(ranked.count for ranked in classes), designs=ranking.designs,
                    checked=ranking.judge.checked, plugs=ranking.plugs, derived=ranking.derived)
+
+
+def fitting_plugs_of_head(session, head_id: str, options: Options, catalog: Catalog,
+                          **page: Any) -> FitPage | None:
+    """`fitting_plugs` for a stored head (`page`: its keyword arguments); None when no
+    head has this head_id."""
+    view = records_cache.view(session)
+
+    def stored_port() -> PortSpec | None:
+        head = repository.heads(session).document(head_id)
+        return None if head is None else port_spec(head)
+
+    port = view.get_or_build(("head", head_id), stored_port)
+    return None if port is None else fitting_plugs(session, port, options, catalog, view=view, **page)
 
 
 # --- interchanges ---------------------------------------------------------------------
@@ -338,13 +357,26 @@ def rank_interchanges(session, original: PlugSpec, original_sku: str, catalog: C
 
 def interchanges(session, original: PlugSpec, original_sku: str, catalog: Catalog, *,
                  filters: PlugFilters = NO_FILTERS, tolerances: Tolerances = DEFAULT_TOLERANCES,
-                 offset: int = 0, limit: int = 50) -> InterchangePage:
+                 offset: int = 0, limit: int = 50, view: View | None = None) -> InterchangePage:
     """Inventory plugs that can replace `original`, closest first (see
     `service.fitment.interchange` for the rule and its tolerances)."""
-    ranking = plug_cache.cached(
-        session, ("interchanges", original, original_sku, catalog.version, filters, tolerances),
+    ranking = (view or records_cache.view(session)).get_or_build(
+        ("interchanges", original, original_sku, catalog.version, filters, tolerances),
         lambda: rank_interchanges(session, original, original_sku, catalog, filters, tolerances))
     items = ranking.pages.get_or_build((offset, limit), lambda: [
         Interchange(row, *ranking.comparisons[row.design])
         for row in _cut(session, ranking.classes, offset, limit, in_stock=filters.in_stock, exclude_sku=original_sku)])
     return InterchangePage(items, sum(ranked.count for ranked in ranking.classes), ranking.designs)
+
+
+def interchanges_of_plug(session, sku: str, catalog: Catalog, **page: Any) -> InterchangePage | None:
+    """`interchanges` for a stored plug (`page`: its keyword arguments); None when no plug
+    has this sku."""
+    view = records_cache.view(session)
+
+    def stored_plug() -> PlugSpec | None:
+        plug = repository.plugs(session).document(sku)
+        return None if plug is None else plug_spec(plug)
+
+    original = view.get_or_build(("plug", sku), stored_plug)
+    return None if original is None else interchanges(session, original, sku, catalog, view=view, **page)

@@ -15,7 +15,7 @@ from flask.views import MethodView
 from schemas.answers import PlugSchema
 from schemas.counter import FULL, FittingPlugSchema, FittingPlugsQuerySchema, InterchangeQuerySchema, InterchangeSchema
 from schemas.results import result_document
-from schemas.specs import options_from, plug_spec, port_spec
+from schemas.specs import options_from
 from service.catalog_loader import load_catalog
 from service.fitment.interchange import THREAD_END_TOLERANCE_MM, TIP_TOLERANCE_MM, Tolerances
 from service.formats.counter_lines import FittingLines, interchange_line
@@ -94,15 +94,14 @@ class FittingPlugs(MethodView):
         licensed practice come first.
         """
         session = db.session()
-        head = repository.heads(session).document(head_id)
-        if head is None:
-            records.not_found("head", "head_id", head_id)
         options = options_from({name: query.get(name) for name in
                                 ("stack", "min_clearance", "flush_tolerance", "dynamic_allowance")})
-        page = parts_search.fitting_plugs(session, port_spec(head), options, load_catalog(), filters=_filters(query),
-                                          include=frozenset(query["include"]),
-                                          offset=pagination_parameters.first_item,
-                                          limit=pagination_parameters.page_size)
+        page = parts_search.fitting_plugs_of_head(session, head_id, options, load_catalog(), filters=_filters(query),
+                                                  include=frozenset(query["include"]),
+                                                  offset=pagination_parameters.first_item,
+                                                  limit=pagination_parameters.page_size)
+        if page is None:
+            records.not_found("head", "head_id", head_id)
         pagination_parameters.item_count = page.total
         units = query["units"]
         lines = FittingLines(units, options.stack, kept=page.derived)
@@ -143,14 +142,13 @@ class Interchanges(MethodView):
         `hex`; paginated.
         """
         session = db.session()
-        original = repository.plugs(session).document(sku)
-        if original is None:
-            records.not_found("plug", "sku", sku)
         tolerances = Tolerances(thread_end_mm=query.get("thread_end_tolerance", THREAD_END_TOLERANCE_MM),
                                 tip_mm=query.get("tip_tolerance", TIP_TOLERANCE_MM))
-        page = parts_search.interchanges(session, plug_spec(original), sku, load_catalog(), filters=_filters(query),
-                                         tolerances=tolerances, offset=pagination_parameters.first_item,
-                                         limit=pagination_parameters.page_size)
+        page = parts_search.interchanges_of_plug(session, sku, load_catalog(), filters=_filters(query),
+                                                 tolerances=tolerances, offset=pagination_parameters.first_item,
+                                                 limit=pagination_parameters.page_size)
+        if page is None:
+            records.not_found("plug", "sku", sku)
         pagination_parameters.item_count = page.total
         body = [interchange_line(item.row, item.spec, item.comparison, query["units"]) for item in page.items]
         if query["detail"] == FULL:

@@ -1,7 +1,7 @@
 """The parts counter reuses its rankings only while no plug has changed, on SQLite and,
 under PLUGFIT_TEST_POSTGRES_URL, PostgreSQL: the database counts every change to plugs
 itself (migration 0004), and every process checks that count per request
-(service/store/plug_cache.py)."""
+(service/store/records_cache.py)."""
 from __future__ import annotations
 
 import json
@@ -9,7 +9,7 @@ import json
 import pytest
 from sqlalchemy import text
 
-from service.store import db, repository
+from service.store import db
 from service.usecases import parts_search
 from service.web import create_app
 from service.web.auth import create_key
@@ -21,9 +21,16 @@ FITTING = "/v1/heads/T-HEAD/fitting-plugs"
 FLUSH, DEEP_TIP = plug("K-FLUSH", 19.0, 2.0), plug("K-DEEP-TIP", 19.0, 3.0)
 
 
+def generations(app) -> tuple[int, int]:
+    """The generations of plugs and heads, each 0 while its row is missing (the test
+    harness empties every table between tests on PostgreSQL)."""
+    with db.get_database(app).engine.connect() as connection:
+        found = dict(connection.execute(text("SELECT name, generation FROM table_generations")).all())
+    return found.get("plugs", 0), found.get("heads", 0)
+
+
 def generation(app) -> int:
-    with db.unit_of_work(app) as session:
-        return repository.plugs_generation(session) or 0  # None after the test harness emptied the table
+    return generations(app)[0]
 
 
 def skus(client, path: str = FITTING) -> list[str]:
@@ -32,7 +39,7 @@ def skus(client, path: str = FITTING) -> list[str]:
     return [entry["sku"] for entry in response.get_json()]
 
 
-def test_every_write_to_plugs_raises_the_generation_and_a_head_write_does_not(app, client, auth):
+def test_every_write_to_plugs_raises_their_generation_and_a_head_write_that_of_heads(app, client, auth):
     def raised_by(write) -> bool:
         before = generation(app)
         write()
@@ -50,12 +57,16 @@ def test_every_write_to_plugs_raises_the_generation_and_a_head_write_does_not(ap
             connection.execute(text("UPDATE plugs SET location = 'bin 9'"))
 
     assert raised_by(by_hand)
+    heads_before = generations(app)[1]
     assert not raised_by(lambda: client.post("/v1/heads", json=HEAD, headers=auth))
+    assert generations(app)[1] > heads_before  # heads have a count of their own
     # A write that is rolled back leaves the count where it was.
     assert not raised_by(lambda: client.post("/v1/plugs", json={**FLUSH, "sku": "K-FLUSH"}, headers=auth))
 
 
-def test_the_ranking_is_built_once_and_again_after_any_change_to_plugs(app, client, auth, monkeypatch):
+@pytest.fixture
+def rankings_built(monkeypatch) -> list:
+    """The ports parts_search.rank_fitting is called for, in order."""
     built = []
     original = parts_search.rank_fitting
 
@@ -64,6 +75,11 @@ def test_the_ranking_is_built_once_and_again_after_any_change_to_plugs(app, clie
         return original(*args, **kwargs)
 
     monkeypatch.setattr(parts_search, "rank_fitting", counting)
+    return built
+
+
+def test_the_ranking_is_built_once_and_again_after_any_change_to_plugs(client, auth, rankings_built):
+    built = rankings_built
     client.post("/v1/heads", json=HEAD, headers=auth)
     client.post("/v1/plugs", json=FLUSH, headers=auth)
     assert skus(client) == ["K-FLUSH"]
@@ -75,6 +91,18 @@ def test_the_ranking_is_built_once_and_again_after_any_change_to_plugs(app, clie
     assert len(built) == 2
     assert skus(client, FITTING + "?in_stock=true") == ["K-FLUSH", "K-DEEP-TIP"]  # other filters: their own
     assert len(built) == 3
+
+
+def test_without_its_counter_rows_nothing_is_reused(app, client, auth, rankings_built):
+    client.post("/v1/heads", json=HEAD, headers=auth)
+    client.post("/v1/plugs", json=FLUSH, headers=auth)
+    with db.get_database(app).engine.begin() as connection:  # emptied by hand
+        connection.execute(text("DELETE FROM table_generations WHERE name = 'heads'"))
+    assert skus(client) == skus(client) == ["K-FLUSH"]
+    assert len(rankings_built) == 2
+    client.post("/v1/heads", json={**HEAD, "head_id": "T-HEAD-2"}, headers=auth)  # the row comes back
+    assert skus(client) == skus(client) == ["K-FLUSH"]
+    assert len(rankings_built) == 3
 
 
 @pytest.fixture
@@ -116,3 +144,19 @@ def test_interchanges_follow_changes_too(client, auth, second_worker):
     assert skus(client, "/v1/plugs/K-FLUSH/interchanges") == ["K-TWIN"]
     other.post("/v1/plugs", json=plug("K-TWIN-2", 19.0, 2.0), headers=other_auth)
     assert skus(client, "/v1/plugs/K-FLUSH/interchanges") == ["K-TWIN", "K-TWIN-2"]
+
+
+def test_a_head_changed_through_another_worker_is_judged_anew(client, auth, second_worker):
+    other, other_auth = second_worker
+    client.post("/v1/heads", json=HEAD, headers=auth)
+    client.post("/v1/plugs", json=FLUSH, headers=auth)
+    client.post("/v1/plugs", json=DEEP_TIP, headers=auth)
+    assert skus(client) == ["K-FLUSH", "K-DEEP-TIP"]
+    # piston_clearance 4 mm puts the piston 21.5 mm from the seat: K-DEEP-TIP's tip at
+    # 20.5 mm leaves 1.0 mm, under the 1.5 mm minimum (PISTON_CONTACT, left out);
+    # K-FLUSH's at 19.5 mm leaves 2.0 mm.
+    assert other.put("/v1/heads/T-HEAD", json={**HEAD, "piston_clearance": 4.0},
+                     headers=other_auth).status_code == 200
+    assert skus(client) == ["K-FLUSH"]
+    assert other.delete("/v1/heads/T-HEAD", headers=other_auth).status_code == 204
+    assert client.get(FITTING).status_code == 404

@@ -1,8 +1,8 @@
-"""PlugCache: a value is returned only to a request that read the generation it was
-built at (service/store/plug_cache.py, points 2 and 3)."""
+"""RecordsCache: a value is returned only to a request that read the generation it was
+built at (service/store/records_cache.py, points 2 and 3)."""
 from __future__ import annotations
 
-from service.store.plug_cache import PlugCache
+from service.store.records_cache import RecordsCache
 
 
 class Builder:
@@ -15,7 +15,7 @@ class Builder:
 
 
 def test_a_value_is_reused_within_its_generation_and_rebuilt_after_it():
-    cache, build = PlugCache(), Builder()
+    cache, build = RecordsCache(), Builder()
     first = cache.get_or_build(7, "head A", build)
     assert cache.get_or_build(7, "head A", build) is first
     assert cache.get_or_build(7, "head B", build) is not first  # another key builds its own
@@ -24,14 +24,14 @@ def test_a_value_is_reused_within_its_generation_and_rebuilt_after_it():
 
 
 def test_without_a_generation_nothing_is_reused():
-    cache, build = PlugCache(), Builder()
+    cache, build = RecordsCache(), Builder()
     cache.get_or_build(None, "head A", build)
     cache.get_or_build(None, "head A", build)
     assert build.calls == 2 and len(cache) == 0
 
 
 def test_a_value_built_for_a_generation_overtaken_meanwhile_is_not_returned_for_the_new_one():
-    cache, build = PlugCache(), Builder()
+    cache, build = RecordsCache(), Builder()
 
     def slow_build():  # another request sees generation 9 while this one builds for 8
         cache.get_or_build(9, "head B", Builder())
@@ -43,7 +43,7 @@ def test_a_value_built_for_a_generation_overtaken_meanwhile_is_not_returned_for_
 
 
 def test_the_least_recently_used_value_leaves_first():
-    cache, build = PlugCache(capacity=2), Builder()
+    cache, build = RecordsCache(capacity=2), Builder()
     a = cache.get_or_build(1, "a", build)
     cache.get_or_build(1, "b", build)
     assert cache.get_or_build(1, "a", build) is a  # a used again: b is now the oldest
