@@ -39,11 +39,11 @@ geometry and the whole listing with a brute-force run of the engine over every p
 from __future__ import annotations
 
 import logging
-from collections.abc import Collection, Iterable
+from collections.abc import Callable, Collection, Iterable
 from dataclasses import dataclass, field
 from itertools import groupby
 from operator import itemgetter
-from typing import Any
+from typing import Any, TypeVar
 
 from schemas.specs import MAX_GASKET_MM, plug_spec, port_spec
 from service.fitment import check_fit
@@ -58,6 +58,7 @@ from service.store.repository import CounterRow, Design
 log = logging.getLogger("plugfit.counter")
 
 BOTH = frozenset({PASS, WARN})
+Spec = TypeVar("Spec", PlugSpec, PortSpec)
 # Pages kept per ranking, the most recently asked for (a clerk pages back and forth;
 # at most 1,000 lines each).
 PAGES_KEPT = 4
@@ -125,6 +126,17 @@ def _classes(keyed: Iterable[tuple[tuple, _Design]]) -> list[_Class]:
     return classes
 
 
+def _kept_spec(view: View, key: tuple[str, str], document: Callable[[], dict | None],
+               spec: Callable[[dict], Spec]) -> Spec | None:
+    """The engine's record of a stored plug or head, kept like the rankings (None: no
+    such record; not kept, so it is looked for again next time)."""
+    def build() -> Spec | None:
+        found = document()
+        return None if found is None else spec(found)
+
+    return view.get_or_build(key, build)
+
+
 def _cut(session, classes: list[_Class], offset: int, limit: int, **row_filters) -> list[CounterRow]:
     """The plugs at positions offset .. offset + limit of the listing the classes make."""
     rows: list[CounterRow] = []
@@ -146,14 +158,11 @@ def _cut(session, classes: list[_Class], offset: int, limit: int, **row_filters)
 
 
 @dataclass
-class Listed:
-    """One plug on a page: the inventory line, its design's engine record, its verdict
-    and the engine's result."""
+class OnPage:
+    """One plug on a counter page: the inventory line and its design's engine record."""
 
     row: CounterRow
     spec: PlugSpec
-    verdict: str
-    result: FitResult
 
     @property
     def sku(self) -> str:
@@ -162,6 +171,14 @@ class Listed:
     @property
     def plug_id(self) -> int:
         return self.row.plug_id
+
+
+@dataclass
+class Listed(OnPage):
+    """A fitting plug: with its verdict and the engine's result."""
+
+    verdict: str
+    result: FitResult
 
 
 @dataclass
@@ -287,12 +304,7 @@ def fitting_plugs_of_head(session, head_id: str, options: Options, catalog: Cata
     """`fitting_plugs` for a stored head (`page`: its keyword arguments); None when no
     head has this head_id."""
     view = records_cache.view(session)
-
-    def stored_port() -> PortSpec | None:
-        head = repository.heads(session).document(head_id)
-        return None if head is None else port_spec(head)
-
-    port = view.get_or_build(("head", head_id), stored_port)
+    port = _kept_spec(view, ("head", head_id), lambda: repository.heads(session).document(head_id), port_spec)
     return None if port is None else fitting_plugs(session, port, options, catalog, view=view, **page)
 
 
@@ -300,18 +312,10 @@ def fitting_plugs_of_head(session, head_id: str, options: Options, catalog: Cata
 
 
 @dataclass
-class Interchange:
-    row: CounterRow
-    spec: PlugSpec
+class Interchange(OnPage):
+    """A plug that can replace the original: with how it differs."""
+
     comparison: Comparison
-
-    @property
-    def sku(self) -> str:
-        return self.row.sku
-
-    @property
-    def plug_id(self) -> int:
-        return self.row.plug_id
 
 
 @dataclass
@@ -373,10 +377,5 @@ def interchanges_of_plug(session, sku: str, catalog: Catalog, **page: Any) -> In
     """`interchanges` for a stored plug (`page`: its keyword arguments); None when no plug
     has this sku."""
     view = records_cache.view(session)
-
-    def stored_plug() -> PlugSpec | None:
-        plug = repository.plugs(session).document(sku)
-        return None if plug is None else plug_spec(plug)
-
-    original = view.get_or_build(("plug", sku), stored_plug)
+    original = _kept_spec(view, ("plug", sku), lambda: repository.plugs(session).document(sku), plug_spec)
     return None if original is None else interchanges(session, original, sku, catalog, view=view, **page)

@@ -116,12 +116,17 @@ def second_worker(database_url):
     yield other.test_client(), {"Authorization": f"Bearer {key}"}
 
 
-def test_a_change_made_through_another_worker_is_listed_on_the_next_request(client, auth, second_worker):
-    other, other_auth = second_worker
+def stock_the_test_head(client, auth) -> None:
+    """The test head and two plugs that fit it, listed once (so the ranking is kept)."""
     client.post("/v1/heads", json=HEAD, headers=auth)
     client.post("/v1/plugs", json=FLUSH, headers=auth)
     client.post("/v1/plugs", json=DEEP_TIP, headers=auth)
     assert skus(client) == ["K-FLUSH", "K-DEEP-TIP"]
+
+
+def test_a_change_made_through_another_worker_is_listed_on_the_next_request(client, auth, second_worker):
+    other, other_auth = second_worker
+    stock_the_test_head(client, auth)
     assert skus(other) == ["K-FLUSH", "K-DEEP-TIP"]  # both workers hold a ranking now
 
     # A firing end of 7 mm puts the tip at 25 mm, 0.5 mm from the piston: PISTON_CONTACT.
@@ -148,10 +153,7 @@ def test_interchanges_follow_changes_too(client, auth, second_worker):
 
 def test_a_head_changed_through_another_worker_is_judged_anew(client, auth, second_worker):
     other, other_auth = second_worker
-    client.post("/v1/heads", json=HEAD, headers=auth)
-    client.post("/v1/plugs", json=FLUSH, headers=auth)
-    client.post("/v1/plugs", json=DEEP_TIP, headers=auth)
-    assert skus(client) == ["K-FLUSH", "K-DEEP-TIP"]
+    stock_the_test_head(client, auth)
     # piston_clearance 4 mm puts the piston 21.5 mm from the seat: K-DEEP-TIP's tip at
     # 20.5 mm leaves 1.0 mm, under the 1.5 mm minimum (PISTON_CONTACT, left out);
     # K-FLUSH's at 19.5 mm leaves 2.0 mm.
