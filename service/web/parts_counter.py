@@ -30,19 +30,19 @@ blp = Blueprint("parts-counter", __name__, url_prefix="/v1",
 HEAD_ID_PARAMETER = {"in": "path", "name": "head_id", "description": "The head's identifier (case-sensitive)."}
 SKU_PARAMETER = {"in": "path", "name": "sku", "description": "The plug's sku (case-sensitive)."}
 
+# The demo shop's answers (seed_catalog/demo/, invented data).
+_DEMO_LINE = {"description": "Demo house line: M14 flat seat, 19 mm reach, standard tip, resistor, cooling index "
+                             "0.50, gap 0.8 mm", "quantity_on_hand": 2, "location": "C-03-2",
+              "heat_range": {"scale": "demo-cooling-index", "value": 0.5}}
 EXAMPLE_FITTING = [{
-    "sku": "DEMO-P-0001", "description": "Invented demo line: M14 flat seat, 19 mm reach, resistor",
-    "quantity_on_hand": 12, "location": "shelf B3", "heat_range": {"scale": "cinderbrook-heat", "value": 6.0},
-    "verdict": "pass", "codes": ["NOT_CHECKED"],
+    "sku": "DEMO-P-0001", **_DEMO_LINE, "verdict": "pass", "codes": [],
     "protrusion_short_side": {"value": 0.0, "unit": "mm"}, "protrusion_long_side": {"value": 0.0, "unit": "mm"},
-    "piston_margin": {"value": 3.6, "unit": "mm"}, "cautions": examples.FIT_RESULT["cautions"],
+    "piston_margin": {"value": 5.1, "unit": "mm"}, "cautions": examples.FIT_RESULT["cautions"],
 }]
 EXAMPLE_INTERCHANGE = [{
-    "sku": "DEMO-P-0171", "description": "Invented demo line: M14 flat seat, 19 mm reach, resistor",
-    "quantity_on_hand": 4, "location": "shelf B4", "heat_range": {"scale": "cinderbrook-heat", "value": 6.0},
-    "closeness": {"value": 0.0, "unit": "mm"},
+    "sku": "DEMO-P-0001", **_DEMO_LINE, "closeness": {"value": 0.0, "unit": "mm"},
     "differences": {"thread_end": {"value": 0.0, "unit": "mm"}, "tip": {"value": 0.0, "unit": "mm"},
-                    "terminal_top": {"value": 2.0, "unit": "mm"}},
+                    "terminal_top": {"value": 0.0, "unit": "mm"}},
     "hex_differs": False,
 }]
 
