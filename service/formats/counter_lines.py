@@ -11,9 +11,9 @@ from __future__ import annotations
 
 from typing import Any, Protocol
 
+from schemas.results import quantity_document
 from service.fitment.interchange import Comparison
 from service.fitment.model import FitResult, PlugSpec
-from service.units import from_canonical, output_unit
 
 # The most severe first; a listed plug never has a failing finding.
 _SEVERITY_ORDER = {"fail": 0, "warn": 1, "info": 2}
@@ -33,12 +33,8 @@ class InventoryLine(Protocol):
 
 
 def length(value: float | None, units: str) -> dict[str, Any] | None:
-    """A length in the client's units, to a micrometre in mm (ten-thousandths in inches
-    to five places), as the result document writes it."""
-    if value is None:
-        return None
-    return {"value": round(from_canonical(value, "length", units), 5 if units == "imperial" else 4),
-            "unit": output_unit("length", units)}
+    """A length in the client's units, rounded as the result document rounds it."""
+    return quantity_document(value, "length", units)
 
 
 def inventory_fields(row: InventoryLine, spec: PlugSpec) -> dict[str, Any]:

@@ -128,15 +128,16 @@ def test_imperial_units_and_check_options_apply_to_every_entry(shop):
 def test_the_margin_shown_is_the_bound_the_verdict_used(client, auth):
     # A plug with tolerances: firing end 2.0 +0.4, reach 19.0 +0.2/-0.1, exact gasket.
     # Tip worst case 19.5 + 0.2 + 0.4 = 20.1 mm, so the worst-case margin is 25.5 - 20.1
-    # = 5.4 mm; the RSS one 25.5 - 19.5 - sqrt(0.2² + 0.4²) = 5.5528 mm (hand-worked).
+    # = 5.4 mm; the RSS one 25.5 - 19.5 - sqrt(0.2² + 0.4²) = 5.5528 mm (hand-worked),
+    # written to 0.001 mm.
     assert client.post("/v1/heads", json=HEAD, headers=auth).status_code == 201
     toleranced = {**plug("T-1", 19.0, 2.0), "reach": {"value": 19.0, "plus": 0.2, "minus": 0.1},
                   "firing_end": {"value": 2.0, "plus": 0.4, "minus": 0.0}}
     assert client.post("/v1/plugs", json=toleranced, headers=auth).status_code == 201
     _response, worst = listing(client, "/v1/heads/T-HEAD/fitting-plugs")
     _response, rss = listing(client, "/v1/heads/T-HEAD/fitting-plugs?stack=rss")
-    assert worst[0]["piston_margin"]["value"] == pytest.approx(5.4, abs=1e-4)
-    assert rss[0]["piston_margin"]["value"] == pytest.approx(6.0 - (0.2 ** 2 + 0.4 ** 2) ** 0.5, abs=1e-4)
+    assert worst[0]["piston_margin"]["value"] == 5.4
+    assert rss[0]["piston_margin"]["value"] == round(6.0 - (0.2 ** 2 + 0.4 ** 2) ** 0.5, 3) == 5.553
 
 
 def test_an_unknown_head_is_a_404_and_a_bad_query_a_422(shop):
