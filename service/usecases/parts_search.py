@@ -308,6 +308,11 @@ def fitting_plugs_of_head(session, head_id: str, options: Options, catalog: Cata
     return None if port is None else fitting_plugs(session, port, options, catalog, view=view, **page)
 
 
+def stored_plugs(session, items: Iterable[OnPage]) -> dict[int, dict[str, Any]]:
+    """The stored documents of a page's plugs, by row id (`?detail=full`)."""
+    return repository.plug_documents_by_id(session, [item.plug_id for item in items])
+
+
 # --- interchanges ---------------------------------------------------------------------
 
 

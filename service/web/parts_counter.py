@@ -2,8 +2,8 @@
 
 Reads. The search itself is `service.usecases.parts_search` (the database groups the
 plugs by design, the engine judges each design once, and the ranking is kept until a
-plug changes); this module parses the query, fetches the head or the plug, and writes
-the page with `service.formats.counter_lines`.
+plug or head changes); this module parses the query, calls it, and writes the page with
+`service.formats.counter_lines`.
 """
 from __future__ import annotations
 
@@ -19,7 +19,7 @@ from schemas.specs import options_from
 from service.catalog_loader import load_catalog
 from service.fitment.interchange import THREAD_END_TOLERANCE_MM, TIP_TOLERANCE_MM, Tolerances
 from service.formats.counter_lines import FittingLines, interchange_line
-from service.store import db, repository
+from service.store import db
 from service.usecases import parts_search
 from service.web import examples, records
 from service.web.smorest import Blueprint
@@ -55,7 +55,7 @@ def _filters(query: dict[str, Any]) -> parts_search.PlugFilters:
 
 def _stored_plugs(session, items: list) -> dict[int, dict]:
     """The stored plugs of a page, as GET /v1/plugs/{sku} answers them (detail=full)."""
-    documents = repository.plug_documents_by_id(session, [item.plug_id for item in items])
+    documents = parts_search.stored_plugs(session, items)
     return {plug_id: _plug_schema.dump(document) for plug_id, document in documents.items()}
 
 
