@@ -17,9 +17,11 @@ connections, and a client that sends on one just then sees a reset (measured: 18
 
 Each worker builds its own app, engine and connection pool after the fork (no
 `preload_app`), so no database connection crosses a process boundary. A worker holds
-no state a request leaves behind: the catalogue is read-only files, keys and records
-live in the database, so any number of processes on any number of machines can serve
-one database behind a load balancer.
+no state a request leaves behind that the database does not decide: the catalogue is
+read-only files, keys and records live in the database, and what the parts counter keeps
+is checked against the database's change counters on every request
+(service/store/records_cache.py), so any number of processes on any number of machines
+can serve one database behind a load balancer.
 """
 from __future__ import annotations
 
