@@ -1,4 +1,4 @@
-"""ISO metric thread geometry: the basic profile (ISO 68-1) and 6g/6H limits (ISO 965-1).
+"""ISO metric thread geometry: the basic profile (ISO 68-1) and 6g, 6e / 6H limits (ISO 965-1).
 
 Why this exists: a spark-plug thread is an ordinary ISO metric fine thread, so the
 diameters that decide whether a plug strips a port, or how much a port's thread can carry,
@@ -10,7 +10,7 @@ them). No pint, no I/O.
 
 Sources and grades (see ../shared/product/reference-values.md (beside the repository)):
 - ISO 68-1 basic profile: published.
-- ISO 965-1 tolerance formulas (es(g), Td(6), Td2(6), TD1(6), TD2(6)): published.
+- ISO 965-1 tolerance formulas (es(g), es(e), Td(6), Td2(6), TD1(6), TD2(6)): published.
 - ISO 965-1 size ranges for Td2's geometric-mean diameter, the rounding of computed
   tolerances to the R40 preferred numbers (ISO 3), the TD1 formula for pitches below
   1 mm, and the tabulated fundamental deviations: from memory (not re-read). The result
@@ -73,9 +73,20 @@ _R40_DECADE = (
     710, 750, 800, 850, 900, 950,
 )
 
-# ISO 965-1 tabulates es for position g already rounded; these pitches are the ones spark
-# plugs use (from memory; M10x1, M12x1.25, M18x1.5 agree with reference-values.md's table).
-_TABULATED_ES_G_UM = {1.0: -26.0, 1.25: -28.0, 1.5: -32.0}
+# ISO 965-1 tabulates es for positions g and e already rounded; these pitches are the ones
+# spark plugs use (from memory; for g, M10x1, M12x1.25, M18x1.5 agree with
+# reference-values.md's table; for e, P = 1.25 agrees with its derived M14x1.25 6e limits,
+# d max 13.937 and d min 13.725 mm, where the formula would give -63.75 µm).
+_TABULATED_ES_UM = {
+    "g": {1.0: -26.0, 1.25: -28.0, 1.5: -32.0},
+    "e": {1.0: -60.0, 1.25: -63.0, 1.5: -67.0},
+}
+# es = -(base + 11·P) µm, ISO 965-1 (published): position g base 15, position e base 50.
+_ES_BASE_UM = {"g": 15.0, "e": 50.0}
+# The external thread classes the engine computes: tolerance grade 6 with position g (the
+# general-purpose fit) or e (the larger allowance spark-plug shells are cut to, for
+# plating and hot removal; reference-values.md, from memory).
+EXTERNAL_CLASSES = ("6g", "6e")
 
 # ISO 965-1's table gives TD1(6) = 236 µm for P = 1 mm, while 230·P^0.7 gives exactly 230,
 # which rounds to R40 224 (the geometric midpoint of 224 and 236 is 230.4). The table is
@@ -111,16 +122,17 @@ def round_to_r40(value: float) -> float:
     return _R40_DECADE[index] * decade * 10.0**decades_up
 
 
-def fundamental_deviation_g_um(pitch_mm: float) -> float:
-    """es for position g (external): −(15 + 11·P) µm, ISO 965-1.
+def fundamental_deviation_um(position: str, pitch_mm: float) -> float:
+    """es for an external tolerance position, ISO 965-1: g −(15 + 11·P) µm, e −(50 + 11·P) µm.
 
     The tabulated value where we have it; otherwise the formula rounded to the nearest
     micrometre (the standard's own rounding of es is not reproduced exactly: can differ
     by 1 µm).
     """
-    if pitch_mm in _TABULATED_ES_G_UM:
-        return _TABULATED_ES_G_UM[pitch_mm]
-    return -float(round(15.0 + 11.0 * pitch_mm))
+    tabulated = _TABULATED_ES_UM[position]
+    if pitch_mm in tabulated:
+        return tabulated[pitch_mm]
+    return -float(round(_ES_BASE_UM[position] + 11.0 * pitch_mm))
 
 
 def major_diameter_tolerance_6_um(pitch_mm: float) -> float:
@@ -159,7 +171,7 @@ def _external_pitch_tolerance_6_unrounded(nominal_diameter_mm: float, pitch_mm: 
 
 @dataclass(frozen=True, slots=True)
 class ThreadLimits:
-    """Limits of size of a 6g external (plug) and 6H internal (port) thread, in mm.
+    """Limits of size of an external (plug: 6g or 6e) and a 6H internal (port) thread, in mm.
 
     The thread-stripping check needs exactly these: the shear area of the port's thread
     uses the plug's smallest major diameter and the port's largest pitch diameter; the
@@ -176,14 +188,24 @@ class ThreadLimits:
     internal_pitch_max_mm: float  # D2 max = D2 + TD2
     internal_minor_min_mm: float  # D1 min = D1
     internal_minor_max_mm: float  # D1 max = D1 + TD1
+    external_class: str = "6g"  # the plug's class; the port is always 6H
 
 
 def limits_6g_6H(nominal_diameter_mm: float, pitch_mm: float) -> ThreadLimits:
     """6g/6H limits of size for an ISO metric thread (ISO 965-1), in mm."""
+    return thread_limits(nominal_diameter_mm, pitch_mm, "6g")
+
+
+def thread_limits(nominal_diameter_mm: float, pitch_mm: float, external_class: str) -> ThreadLimits:
+    """Limits of size for an external thread of `external_class` (6g or 6e) in a 6H
+    internal thread (ISO 965-1), in mm. Grade 6 throughout: the classes differ only in
+    the external thread's fundamental deviation es, which moves d and d2 down together."""
+    if external_class not in EXTERNAL_CLASSES:
+        raise ValueError(f"external thread class must be one of {', '.join(EXTERNAL_CLASSES)}, got {external_class!r}")
     if not (math.isfinite(pitch_mm) and pitch_mm > 0):
         raise ValueError(f"pitch must be a positive number of mm, got {pitch_mm}")
     um = 1e-3  # µm → mm
-    es = fundamental_deviation_g_um(pitch_mm) * um
+    es = fundamental_deviation_um(external_class[1], pitch_mm) * um
     pitch_basic = basic_pitch_diameter(nominal_diameter_mm, pitch_mm)
     minor_basic = basic_minor_diameter(nominal_diameter_mm, pitch_mm)
     major_max = nominal_diameter_mm + es
@@ -201,4 +223,5 @@ def limits_6g_6H(nominal_diameter_mm: float, pitch_mm: float) -> ThreadLimits:
         + internal_pitch_diameter_tolerance_6_um(nominal_diameter_mm, pitch_mm) * um,
         internal_minor_min_mm=minor_basic,
         internal_minor_max_mm=minor_basic + internal_minor_diameter_tolerance_6_um(pitch_mm) * um,
+        external_class=external_class,
     )

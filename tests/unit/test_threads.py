@@ -17,11 +17,13 @@ from service.fitment.threads import (
     basic_minor_diameter,
     basic_pitch_diameter,
     external_root_diameter,
+    fundamental_deviation_um,
     fundamental_triangle_height,
     internal_pitch_diameter_tolerance_6_um,
     limits_6g_6H,
     round_to_r40,
     size_range_mean_mm,
+    thread_limits,
 )
 
 TABLE_TOLERANCE_MM = 0.002
@@ -51,9 +53,9 @@ def test_the_fundamental_triangle_is_0_866025_pitches_high():
 
 
 @pytest.mark.parametrize("pitch", [1.0, 1.25, 1.5])
-def test_the_profile_depths_equal_the_iso_68_1_coefficients(pitch):
-    # ISO 68-1 / ISO 965-1 (published): d − d2 = 0.649519·P, d − d1 = 1.082532·P,
-    # d − d3 = 1.226869·P
+def test_the_profile_depths_equal_the_iso_68_1_and_iso_965_1_coefficients(pitch):
+    # ISO 68-1 (published): d − d2 = 0.649519·P, d − d1 = 1.082532·P;
+    # ISO 965-1 (published), the external root: d − d3 = 1.226869·P
     assert 14.0 - basic_pitch_diameter(14.0, pitch) == pytest.approx(0.649519 * pitch, abs=1e-6)
     assert 14.0 - basic_minor_diameter(14.0, pitch) == pytest.approx(1.082532 * pitch, abs=1e-6)
     assert 14.0 - external_root_diameter(14.0, pitch) == pytest.approx(1.226869 * pitch, abs=1e-6)
@@ -108,3 +110,28 @@ def test_a_pitch_that_is_not_positive_is_refused():
 def test_a_diameter_outside_iso_965_1_is_refused():
     with pytest.raises(ValueError, match="outside ISO 965-1"):
         limits_6g_6H(0.5, 0.2)
+
+
+@pytest.mark.parametrize(("pitch", "tabulated_um"), [(1.0, -60.0), (1.25, -63.0), (1.5, -67.0)])
+def test_the_6e_fundamental_deviation_follows_iso_965_1(pitch, tabulated_um):
+    # ISO 965-1 (published formula): es(e) = −(50 + 11·P) µm, tabulated to the micrometre
+    # (the tabulated values from memory; −63 µm for P = 1.25 agrees with reference-values.md's
+    # derived M14x1.25 6e limits, d max 13.937 mm)
+    assert fundamental_deviation_um("e", pitch) == tabulated_um
+    assert abs(-(50.0 + 11.0 * pitch) - tabulated_um) <= 1.0
+
+
+@pytest.mark.parametrize(("d", "pitch"), [(10.0, 1.0), (12.0, 1.25), (14.0, 1.25), (18.0, 1.5)])
+def test_6e_moves_the_plugs_diameters_down_by_the_difference_of_the_deviations(d, pitch):
+    # ISO 965-1: the classes share grade 6's tolerances; only es differs, so d and d2 move alike
+    six_g, six_e = limits_6g_6H(d, pitch), thread_limits(d, pitch, "6e")
+    shift = (fundamental_deviation_um("g", pitch) - fundamental_deviation_um("e", pitch)) / 1000.0
+    for name in ("external_major_max_mm", "external_major_min_mm", "external_pitch_max_mm", "external_pitch_min_mm"):
+        assert getattr(six_g, name) - getattr(six_e, name) == pytest.approx(shift, abs=1e-12)
+    assert six_e.internal_pitch_max_mm == six_g.internal_pitch_max_mm  # the port stays 6H
+    assert six_e.external_class == "6e"
+
+
+def test_an_unknown_external_class_is_refused():
+    with pytest.raises(ValueError, match="class"):
+        thread_limits(14.0, 1.25, "4h")
