@@ -26,6 +26,14 @@ class ThreadLimitsSchema(_Strict):
     source = fields.String(required=True)
 
 
+class PlugThreadLimitsSchema(_Strict):
+    thread_class = fields.String(required=True, metadata={
+        "example": "6e", "description": "ISO 965-1 class of the plug's shell thread (6e: the looser, where unsure)"})
+    external_major_mm = fields.List(fields.Float(), required=True, metadata={"description": "[min, max]"})
+    external_pitch_mm = fields.List(fields.Float(), required=True)
+    source = fields.String(required=True)
+
+
 class StandardReachSchema(_Strict):
     seat = fields.String(required=True)
     reach_mm = fields.Float(required=True)
@@ -40,9 +48,11 @@ class StandardThreadSchema(_Strict):
     pitch_mm = fields.Float(required=True)
     seats = fields.List(fields.String(), required=True)
     standard_gasket_mm = fields.Float(allow_none=True, required=True)
+    plug_thread_class = fields.String(required=True, metadata={"example": "6e"})
     source = fields.String(required=True)
     basic_diameters = fields.Nested(BasicDiametersSchema, required=True)
     limits_6g_6H = fields.Nested(ThreadLimitsSchema, required=True)
+    plug_thread_limits = fields.Nested(PlugThreadLimitsSchema, required=True)
     reaches = fields.List(fields.Nested(StandardReachSchema), required=True)
 
 
@@ -50,6 +60,8 @@ class StandardHexSchema(_Strict):
     across_flats_mm = fields.Float(required=True)
     family = fields.String(required=True)
     label = fields.String(required=True)
+    form = fields.String(required=True, metadata={"example": "six-point", "description": "six-point or "
+                                                  "twelve-point (bi-hex): the socket is sized for this form"})
     across_corners_mm = fields.Float(required=True)
     socket_od_mm = fields.Float(required=True)
     source = fields.String(required=True)
@@ -60,14 +72,23 @@ class HexFamilySchema(_Strict):
     members = fields.List(fields.String(), required=True)
 
 
+class StatedTorqueSchema(_Strict):
+    min = fields.Float(required=True)
+    max = fields.Float(required=True)
+    unit = fields.String(required=True, metadata={"example": "N*m"})
+
+
 class TorqueGuideSchema(_Strict):
     thread = fields.String(required=True)
     seat = fields.String(required=True)
     material = fields.String(required=True)
-    min_nm = fields.Float(required=True)
+    min_nm = fields.Float(required=True, metadata={"description": "clean, dry threads"})
     max_nm = fields.Float(required=True)
     unit = fields.String(required=True)
+    as_stated = fields.Nested(StatedTorqueSchema, allow_none=True, required=True, metadata={
+        "description": "the range in the unit its source gives it in; planned torques are compared there"})
     turn_angle_deg = fields.Float(allow_none=True, required=True)
+    turn_angle_note = fields.String(required=True, metadata={"example": "after finger-tight, with a new gasket"})
     reused_gasket_turn_angle_deg = fields.Float(allow_none=True, required=True)
     source = fields.String(required=True)
 

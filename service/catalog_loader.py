@@ -22,30 +22,44 @@ from collections.abc import Callable, Iterator
 from typing import Any
 
 from service.fitment.catalog import (
+    HEX_FORMS,
     MATERIALS,
     SEATS,
+    TURN_ANGLE_NOTES,
     Catalog,
     HexSize,
     StandardReach,
+    StatedRange,
     ThreadSize,
     TorqueGuide,
 )
+from service.fitment.defaults import ANTI_SEIZE_CAUTION
+from service.fitment.model import GRADES
 from service.fitment.threads import (
+    EXTERNAL_CLASSES,
     basic_minor_diameter,
     basic_pitch_diameter,
     external_root_diameter,
     limits_6g_6H,
+    thread_limits,
 )
 
 CATALOG_FILES = ("threads.csv", "reaches.csv", "hexes.csv", "torques.csv")
 
-THREAD_COLUMNS = ("designation", "nominal_diameter_mm", "pitch_mm", "seats", "standard_gasket_mm", "source")
+THREAD_COLUMNS = ("designation", "nominal_diameter_mm", "pitch_mm", "seats", "standard_gasket_mm",
+                  "plug_thread_class", "source")
 REACH_COLUMNS = ("thread", "seat", "reach_mm", "tolerance_mm", "label", "source")
-HEX_COLUMNS = ("across_flats_mm", "family", "label", "socket_od_mm", "source")
+HEX_COLUMNS = ("across_flats_mm", "family", "label", "form", "socket_od_mm", "source")
 TORQUE_COLUMNS = (
-    "thread", "seat", "material", "min_nm", "max_nm", "turn_angle_deg",
+    "thread", "seat", "material", "min", "max", "unit", "turn_angle_deg",
     "reused_gasket_turn_angle_deg", "source",
 )
+
+# The units a torque range may be stated in, in N·m per unit: exact from the definitions
+# of the pound-force (0.45359237 kg x 9.80665 m/s^2) and the foot (0.3048 m), as NIST SP
+# 811 (2008, appendix B) gives them: 1 lbf·ft = 1.355 818 N·m, 1 lbf·in = 0.112 984 8 N·m.
+_LBF_N = 0.45359237 * 9.80665
+NEWTON_METRES_PER_TORQUE_UNIT = {"N*m": 1.0, "lbf*ft": _LBF_N * 0.3048, "lbf*in": _LBF_N * 0.0254}
 
 # Thin-wall plug sockets run walls of roughly 1.5–2.5 mm (common practice, from memory);
 # the catalogue uses the middle of that range for every hex.
@@ -53,36 +67,58 @@ THIN_WALL_SOCKET_WALL_MM = 2.0
 
 # Sources of the values the catalogue derives rather than lists.
 DERIVED_SOURCES = {
-    "thread_basic_profile": "ISO 68-1 basic profile: d2 = d - 0.649519 P, d1 = d - 1.082532 P, "
-    "d3 = d - 1.226869 P (published); computed, not typed in",
-    "thread_limits_6g_6H": "ISO 965-1 tolerance formulas for 6g/6H (published); size ranges, R40 "
-    "rounding and tabulated deviations from memory",
-    "hex_across_corners": "across flats / cos 30 deg (exact geometry)",
+    "thread_basic_profile": "ISO 68-1 basic profile: d2 = d - 0.649519 P, d1 = d - 1.082532 P (published); "
+    "ISO 965-1, the external thread's root: d3 = d - 1.226869 P (published); computed, not typed in",
+    "thread_limits_6g_6H": "ISO 965-1 tolerance formulas for 6g/6H (published); the size-range means, R40 "
+    "rounding and tabulated deviations the code applies are from memory, and reproduce the reference "
+    "table of 6g/6H limits (derived from the published formulas) to 0.001 mm",
+    "plug_thread_limits": "ISO 965-1: the plug's class differs from 6g only in its fundamental deviation, "
+    "es(e) = -(50 + 11 P) um (published) as tabulated (-60, -63, -67 um for P = 1, 1.25, 1.5: from memory; "
+    "-63 um agrees with the reference's derived M14x1.25 6e limits, d max 13.937 mm, d min 13.725 mm)",
+    "hex_across_corners": "six-point: across flats / cos 30 deg; twelve-point: across flats / cos 15 deg "
+    "(exact geometry)",
     "socket_od": f"across corners + 2 x {THIN_WALL_SOCKET_WALL_MM:g} mm thin wall "
     "(wall: common practice, from memory)",
     "inch_conversion": "1 in = 25.4 mm exactly (NIST SP 811, 2008, appendix B)",
+    "torque_conversion": "1 lbf*ft = 1.355818 N*m, 1 lbf*in = 0.1129848 N*m (NIST SP 811, 2008, appendix B)",
 }
+# Sizes whose computed 6g/6H limits the test suite checks against the reference table
+# (derived from ISO 965-1's published formulas): M8x1 shares M10x1's pitch and ISO 965-1
+# size range, hence its tolerances and deviations, so it is pinned by the same check.
+LIMITS_CHECKED_AGAINST_TABLE = frozenset({"M8x1", "M10x1", "M12x1.25", "M14x1.25", "M18x1.5"})
+# Plug classes and pitches whose fundamental deviation the reference values pin: 6e at
+# P = 1.25 (es = -63 um, from the reference's derived M14x1.25 6e limits).
+PLUG_LIMITS_CHECKED = frozenset({("6e", 1.25)})
+_PLUG_LIMITS_PINNED_SOURCE = ("derived: ISO 965-1's published formulas with es(e) = -63 um for P = 1.25, which the "
+                              "reference's derived M14x1.25 6e limits (d max 13.937 mm, d min 13.725 mm) confirm")
+_LIMITS_PINNED_SOURCE = ("derived: ISO 965-1's published formulas; for this size the result equals the "
+                         "reference table of 6g/6H limits (derived from the same formulas) to 0.001 mm")
 
 CAUTIONS = (
     ("Torque values and turn angles are guidance for clean, dry threads: the engine maker's "
-    "service data, local regulations and licensed practice come first."),
+    "service data, local regulations and licensed practice come first. Turn angles are after "
+    "finger-tight, with a new gasket unless marked re-used."),
+    ANTI_SEIZE_CAUTION,
     ("Reaches, gasket thicknesses and socket sizes marked 'common practice' or 'from memory' "
     "have no citable published source: confirm them against the part and the head."),
 )
 
-
-def across_corners_mm(across_flats_mm: float) -> float:
-    """A hexagon's across-corners width: across flats / cos 30° (exact geometry).
-
-    A twelve-point socket's recess is two such hexagons turned 30°, so it reaches the
-    same across-corners width.
-    """
-    return across_flats_mm / math.cos(math.radians(30.0))
+# cos of half the angle between neighbouring corners: a hexagon's corners are 60° apart,
+# a twelve-point's 30°, so across corners = across flats / cos 30° or / cos 15°.
+_CORNER_HALF_ANGLE_DEG = {"six-point": 30.0, "twelve-point": 15.0}
 
 
-def thin_wall_socket_od_mm(across_flats_mm: float, wall_mm: float = THIN_WALL_SOCKET_WALL_MM) -> float:
+def across_corners_mm(across_flats_mm: float, form: str = "six-point") -> float:
+    """Across corners of a hex: across flats / cos 30° (six-point) or / cos 15° (twelve-point,
+    bi-hex), exact geometry. A twelve-point socket on a six-point hex reaches the six-point's
+    corners (its recess is two hexagons turned 30°); a twelve-point shell is slimmer."""
+    return across_flats_mm / math.cos(math.radians(_CORNER_HALF_ANGLE_DEG[form]))
+
+
+def thin_wall_socket_od_mm(across_flats_mm: float, form: str = "six-point",
+                           wall_mm: float = THIN_WALL_SOCKET_WALL_MM) -> float:
     """Outside diameter of a thin-wall socket for this hex: across corners + 2 × wall."""
-    return across_corners_mm(across_flats_mm) + 2.0 * wall_mm
+    return across_corners_mm(across_flats_mm, form) + 2.0 * wall_mm
 
 
 def default_catalog_directory() -> pathlib.Path:
@@ -213,7 +249,9 @@ def _rows(path: pathlib.Path, content: bytes, columns: tuple[str, ...]) -> Itera
                 f"{path.name}: line {line}, column {column!r}: expected {len(columns)} cells, found {len(cells)}"
             )
         row = _Row(path, line, dict(zip(columns, cells, strict=False)))
-        row.text("source")  # every value names where it comes from
+        source = row.text("source")  # every value names where it comes from, and how sure it is
+        if not any(grade in source for grade in GRADES):
+            raise row.error("source", f"names no grade ({', '.join(GRADES)})")
         yield row
 
 
@@ -253,7 +291,8 @@ def _read_threads(path: pathlib.Path, content: bytes) -> dict[str, ThreadSize]:
         if ("flat" in seats) != (gasket is not None):
             raise row.error("standard_gasket_mm", "is required exactly when the size has a flat seat")
         threads[designation] = ThreadSize(
-            designation, diameter, pitch, frozenset(seats), gasket, row.text("source")
+            designation, diameter, pitch, frozenset(seats), gasket, row.text("source"),
+            row.choice("plug_thread_class", EXTERNAL_CLASSES),
         )
     return threads
 
@@ -277,11 +316,13 @@ def _read_hexes(path: pathlib.Path, content: bytes) -> tuple[HexSize, ...]:
     for row in _rows(path, content, HEX_COLUMNS):
         across_flats = row.number("across_flats_mm")
         _unique(seen, across_flats, row, "across_flats_mm")
+        form = row.choice("form", HEX_FORMS)
         socket_od = row.number("socket_od_mm")
-        if socket_od <= across_corners_mm(across_flats):
-            raise row.error("socket_od_mm", f"{socket_od:g} mm is not wider than the hex's corners "
-                                            f"({across_corners_mm(across_flats):.3f} mm)")
-        hexes.append(HexSize(across_flats, row.text("family"), row.text("label"), socket_od, row.text("source")))
+        if socket_od <= across_corners_mm(across_flats, form):
+            raise row.error("socket_od_mm", f"{socket_od:g} mm is not wider than the {form} hex's corners "
+                                            f"({across_corners_mm(across_flats, form):.3f} mm)")
+        hexes.append(HexSize(across_flats, row.text("family"), row.text("label"), socket_od, row.text("source"),
+                             form))
     return tuple(sorted(hexes, key=lambda h: h.across_flats_mm))
 
 
@@ -295,17 +336,26 @@ def _read_torques(
         seat, material = row.text("seat"), row.choice("material", MATERIALS)
         key = (size.designation, seat, material)
         _unique(seen, key, row, "material")
-        low, high = row.number("min_nm"), row.number("max_nm")
+        low, high = row.number("min"), row.number("max")
         if low > high:
-            raise row.error("max_nm", f"{high:g} is below min_nm {low:g}")
+            raise row.error("max", f"{high:g} is below min {low:g}")
+        unit = row.choice("unit", tuple(NEWTON_METRES_PER_TORQUE_UNIT))
         reused = row.optional_number("reused_gasket_turn_angle_deg")
         if reused is not None and seat != "flat":
             raise row.error("reused_gasket_turn_angle_deg", "only a flat seat has a gasket to re-use")
+        factor = NEWTON_METRES_PER_TORQUE_UNIT[unit]
+        stated = StatedRange(low, high, unit, min(_step(row.text("min")), _step(row.text("max"))), factor)
         torques[key] = TorqueGuide(
-            size.designation, seat, material, low, high,
-            row.optional_number("turn_angle_deg"), row.text("source"), reused,
+            size.designation, seat, material, low * factor, high * factor,
+            row.optional_number("turn_angle_deg"), row.text("source"), reused, stated,
         )
     return torques
+
+
+def _step(number: str) -> float:
+    """The step of a number's last printed digit: "35" -> 1, "12.5" -> 0.1."""
+    decimals = len(number.partition(".")[2])
+    return 10.0 ** -decimals
 
 
 # --- the JSON view ----------------------------------------------------------------------
@@ -321,12 +371,14 @@ def catalog_as_document(catalog: Catalog) -> dict[str, Any]:
     for size in sorted(catalog.threads.values(), key=lambda t: t.nominal_diameter_mm):
         d, p = size.nominal_diameter_mm, size.pitch_mm
         limits = limits_6g_6H(d, p)
+        plug_limits = thread_limits(d, p, size.plug_thread_class)
         threads.append({
             "designation": size.designation,
             "nominal_diameter_mm": d,
             "pitch_mm": p,
             "seats": sorted(size.seats),
             "standard_gasket_mm": size.standard_gasket_mm,
+            "plug_thread_class": size.plug_thread_class,
             "source": size.source,
             "basic_diameters": {
                 "pitch_diameter_mm": _r(basic_pitch_diameter(d, p)),
@@ -339,7 +391,15 @@ def catalog_as_document(catalog: Catalog) -> dict[str, Any]:
                 "external_pitch_mm": [_r(limits.external_pitch_min_mm), _r(limits.external_pitch_max_mm)],
                 "internal_pitch_mm": [_r(limits.internal_pitch_min_mm), _r(limits.internal_pitch_max_mm)],
                 "internal_minor_mm": [_r(limits.internal_minor_min_mm), _r(limits.internal_minor_max_mm)],
-                "source": DERIVED_SOURCES["thread_limits_6g_6H"],
+                "source": _LIMITS_PINNED_SOURCE if size.designation in LIMITS_CHECKED_AGAINST_TABLE
+                else DERIVED_SOURCES["thread_limits_6g_6H"],
+            },
+            "plug_thread_limits": {
+                "thread_class": size.plug_thread_class,
+                "external_major_mm": [_r(plug_limits.external_major_min_mm), _r(plug_limits.external_major_max_mm)],
+                "external_pitch_mm": [_r(plug_limits.external_pitch_min_mm), _r(plug_limits.external_pitch_max_mm)],
+                "source": _PLUG_LIMITS_PINNED_SOURCE if (size.plug_thread_class, p) in PLUG_LIMITS_CHECKED
+                else DERIVED_SOURCES["plug_thread_limits"],
             },
             "reaches": [
                 {"seat": r.seat, "reach_mm": r.reach_mm, "tolerance_mm": r.tolerance_mm,
@@ -349,8 +409,8 @@ def catalog_as_document(catalog: Catalog) -> dict[str, Any]:
             ],
         })
     hexes = [
-        {"across_flats_mm": h.across_flats_mm, "family": h.family, "label": h.label,
-         "across_corners_mm": _r(across_corners_mm(h.across_flats_mm)),
+        {"across_flats_mm": h.across_flats_mm, "family": h.family, "label": h.label, "form": h.form,
+         "across_corners_mm": _r(across_corners_mm(h.across_flats_mm, h.form)),
          "socket_od_mm": h.socket_od_mm, "source": h.source}
         for h in catalog.hexes
     ]
@@ -360,7 +420,9 @@ def catalog_as_document(catalog: Catalog) -> dict[str, Any]:
     torque = [
         {"thread": t.thread, "seat": t.seat, "material": t.material,
          "min_nm": t.min_nm, "max_nm": t.max_nm, "unit": "N*m",
-         "turn_angle_deg": t.turn_angle_deg,
+         "as_stated": None if t.stated is None else {"min": t.stated.min, "max": t.stated.max,
+                                                      "unit": t.stated.unit},
+         "turn_angle_deg": t.turn_angle_deg, "turn_angle_note": TURN_ANGLE_NOTES[t.seat],
          "reused_gasket_turn_angle_deg": t.reused_gasket_turn_angle_deg, "source": t.source}
         for t in sorted(catalog.torques.values(), key=_torque_order(catalog))
     ]

@@ -11,6 +11,12 @@ from dataclasses import dataclass, field
 
 SEATS = ("flat", "conical")
 MATERIALS = ("aluminium", "cast_iron")
+# The forms a plug's hex comes in: a plain hexagon, or a twelve-point (bi-hex) shell whose
+# socket is slimmer (across corners AF / cos 15° instead of AF / cos 30°, exact geometry).
+HEX_FORMS = ("six-point", "twelve-point")
+# What a guide's `turn_angle_deg` is for, per seat, said wherever the angle is shown; the
+# re-used-gasket angle is shown beside it.
+TURN_ANGLE_NOTES = {"flat": "after finger-tight, with a new gasket", "conical": "after finger-tight, on the taper"}
 
 # Hexes closer than this are the same size read in another unit system (16 mm and
 # 5/8 in = 15.875 mm differ by 0.125 mm); distinct trade hexes are >= 1 mm apart.
@@ -19,7 +25,8 @@ HEX_MATCH_MM = 0.3
 
 @dataclass(frozen=True, slots=True)
 class ThreadSize:
-    """A spark-plug thread size: ISO 261 designation, nominal diameter and pitch."""
+    """A spark-plug thread size: ISO 261 designation, nominal diameter and pitch, and the
+    ISO 965-1 class the plugs' shell threads are cut to (`threads.EXTERNAL_CLASSES`)."""
 
     designation: str
     nominal_diameter_mm: float
@@ -27,6 +34,7 @@ class ThreadSize:
     seats: frozenset[str]
     standard_gasket_mm: float | None
     source: str
+    plug_thread_class: str = "6e"
 
 
 @dataclass(frozen=True, slots=True)
@@ -43,27 +51,50 @@ class StandardReach:
 
 @dataclass(frozen=True, slots=True)
 class HexSize:
-    """A plug hex (across flats) with the outside diameter of its thin-wall socket."""
+    """A plug hex (across flats), its form (`HEX_FORMS`) and the outside diameter of the
+    thin-wall socket for that form."""
 
     across_flats_mm: float
     family: str
     label: str
     socket_od_mm: float
     source: str
+    form: str = "six-point"
 
 
 @dataclass(frozen=True, slots=True)
+class StatedRange:
+    """A torque range exactly as its source states it: the numbers in the source's own
+    unit and the step of their last printed digit (25 and 35 N*m: a step of 1). A planned
+    torque is compared here, not with a rounded conversion, and anything that rounds to an
+    end of the range at the source's own precision counts as inside it."""
+
+    min: float
+    max: float
+    unit: str
+    resolution: float
+    newton_metres_per_unit: float
+
+
+@dataclass(frozen=True, slots=True, eq=False)
 class TorqueGuide:
-    """Installation-torque guidance for one thread, seat and head material."""
+    """Installation-torque guidance for one thread, seat and head material, for clean dry
+    threads (`lubrication` "dry") or lowered for a lubricant (`service.fitment.torque`).
+
+    Compared by identity (`eq=False`): each guide is one catalogue row, and the identity
+    hash lets the lubricated ranges be cached per guide cheaply.
+    """
 
     thread: str
     seat: str
     material: str
     min_nm: float
     max_nm: float
-    turn_angle_deg: float | None
+    turn_angle_deg: float | None  # after finger-tight, with a new gasket (flat) or on the taper (conical)
     source: str
     reused_gasket_turn_angle_deg: float | None = None
+    stated: StatedRange | None = None  # the dry range as its source gives it; None: min_nm/max_nm are
+    lubrication: str = "dry"
 
 
 @dataclass(frozen=True)
@@ -107,4 +138,5 @@ class Catalog:
         return best
 
     def torque_for(self, thread: str, seat: str, material: str) -> TorqueGuide | None:
+        """The dry-thread guidance for this port (lowered for a lubricant by `torque.lubricated`)."""
         return self.torques.get((thread, seat, material))

@@ -35,3 +35,9 @@ CAUTIONS = (
     ("Clearances are computed from the dimensions given; measure the head and piston "
     "of the actual engine before fitting a plug of a different reach."),
 )
+# Added when the request states anti-seize (common practice, from memory).
+ANTI_SEIZE_CAUTION = (
+    "Many plug makers advise no anti-seize on plated shells: the plating already keeps the "
+    "thread from seizing, and anti-seize raises the preload reached at a given torque. If it "
+    "is used, tighten to the lowered range given here, never to the dry figure.")
+CAUTIONS_WITH_ANTI_SEIZE = (*CAUTIONS, ANTI_SEIZE_CAUTION)

@@ -101,7 +101,9 @@ class PortSpec:
     heat_range_band: HeatRangeBand | None = None
     boot_range: Span | None = None
     compression_ratio: float | None = None
-    intake_pressure_bar: float | None = None
+    intake_pressure_bar: float | None = None  # absolute
+    boost_pressure_bar: float | None = None  # gauge: above the atmosphere (give this or the absolute)
+    forced_induction: bool | None = None
     intake_temperature_k: float | None = None
     peak_pressure_bar: float | None = None
     ignition_voltage_kv: float | None = None
@@ -128,6 +130,16 @@ class Options:
 # A finding value: (number, quantity kind). Kinds: length, torque, pressure, voltage,
 # force, stress, ratio, angle, temperature, count. The serialiser turns them into units.
 Value = tuple[float, str]
+# An analysis value that says how sure it is: (number, kind, grade, source), the grade
+# one of GRADES (as in the shared reference values) and the source a sentence.
+SourcedValue = tuple[float, str, str, str]
+GRADES = ("published", "derived", "from memory", "common practice")
+
+
+def least_sure(*grades: str) -> str:
+    """The grade a value computed from values of these grades has: the last of them in
+    GRADES (a product of a published and a from-memory number is from memory)."""
+    return max(grades, key=GRADES.index)
 
 
 class Finding(NamedTuple):

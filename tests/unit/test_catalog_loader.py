@@ -3,14 +3,17 @@
 Sources (graded as in ../shared/product/reference-values.md (beside the repository)):
 - NIST SP 811 (2008), appendix B: 1 in = 25.4 mm exactly (published); cross-checked
   against scipy.constants, a general-purpose library.
-- Hex across corners = across flats / cos 30° (exact geometry).
+- Hex across corners = across flats / cos 30° (six-point) or / cos 15° (twelve-point),
+  exact geometry.
 - Thin-wall socket wall 2.0 mm: common practice, from memory.
 - I.S. 34:1954: 14 mm plug reaches 0.500 and 0.750 in ± 0.010 in (published).
-- Torque and turn angles: common practice.
+- Torque and turn angles: common torque guidance (common practice); the M10/M12 new-gasket
+  angles from memory.
 
-Catalogue rounding: inch reaches are listed as the trade quotes them in millimetres, to
-0.1 mm (3/8 in = 9.525 mm is listed as 9.5, 3/4 in = 19.05 mm as 19.0), so they must lie
-within 0.05 mm of the exact value. Socket outside diameters are listed to 0.001 mm.
+Catalogue rounding: the I.S. 34:1954 reaches are listed at their exact conversion (0.750 in
+= 19.05 mm); the other inch reaches as the trade quotes them in millimetres, to 0.1 mm
+(3/8 in = 9.525 mm is listed as 9.5), so they must lie within 0.05 mm of the exact value.
+Socket outside diameters are listed to 0.001 mm.
 """
 from __future__ import annotations
 
@@ -32,6 +35,7 @@ from service.catalog_loader import (
     load_catalog,
 )
 from service.fitment.catalog import MATERIALS, SEATS
+from service.fitment.model import GRADES
 
 INCH_MM = 25.4  # NIST SP 811 (2008), appendix B: exact
 TRADE_REACH_ROUNDING_MM = 0.05  # half of the 0.1 mm step the trade quotes reaches in
@@ -78,6 +82,27 @@ def test_every_loaded_value_carries_a_source():
     assert all(record.source.strip() for record in records)
 
 
+@pytest.mark.parametrize("name", CATALOG_FILES)
+def test_every_row_grades_its_source(name):
+    # the grades of the shared reference values: published, derived, from memory, common practice
+    with open(default_catalog_directory() / name, newline="") as handle:
+        for row in csv.DictReader(handle):
+            assert any(grade in row["source"] for grade in GRADES), row
+
+
+def test_the_torque_rows_say_common_torque_guidance_not_a_table_of_the_trade():
+    for guide in load_catalog().torques.values():
+        assert "common torque guidance" in guide.source
+        assert "torque table" not in guide.source
+
+
+def test_every_plug_thread_is_the_looser_class_6e_where_unsure():
+    # reference-values.md: plug shells are 6e (from memory); where unsure take the looser class
+    catalog = load_catalog()
+    assert {size.plug_thread_class for size in catalog.threads.values()} == {"6e"}
+    assert all("6e" in size.source for size in catalog.threads.values())
+
+
 def test_the_spark_plug_threads_have_their_iso_pitches_and_seats():
     # ISO 261 fine series (from memory); seats: common practice / ISO 28741 preview
     catalog = load_catalog()
@@ -111,12 +136,32 @@ def test_inch_hexes_equal_their_exact_nist_millimetres(label, exact_mm):
     assert math.isclose(numerator / denominator * INCH_MM, exact_mm, rel_tol=0, abs_tol=1e-12)
 
 
-def test_every_socket_od_is_across_corners_plus_two_thin_walls():
-    # across corners = AF / cos 30° (exact geometry); wall 2.0 mm (common practice, from memory)
+def test_every_socket_od_is_across_corners_of_its_form_plus_two_thin_walls():
+    # across corners = AF / cos 30° six-point, AF / cos 15° twelve-point (exact geometry);
+    # wall 2.0 mm (common practice, from memory)
     assert THIN_WALL_SOCKET_WALL_MM == 2.0
     for size in load_catalog().hexes:
-        expected = size.across_flats_mm / math.cos(math.radians(30)) + 2 * 2.0
+        corner_half_angle = {"six-point": 30, "twelve-point": 15}[size.form]
+        expected = size.across_flats_mm / math.cos(math.radians(corner_half_angle)) + 2 * 2.0
         assert abs(size.socket_od_mm - expected) <= SOCKET_OD_ROUNDING_MM, size
+
+
+def test_a_14_mm_hex_is_twelve_point_and_its_socket_is_about_18_5_mm_not_20_2():
+    # exact geometry: a twelve-point's corners lie at AF / cos 15° = 1.0353 × AF (14.494 mm),
+    # a hexagon's at AF / cos 30° = 1.1547 × AF (16.166 mm); + 2 × 2.0 mm wall
+    size = load_catalog().hex_size(14.0)
+    assert size.form == "twelve-point"
+    assert 1 / math.cos(math.radians(15)) == pytest.approx(1.0353, abs=5e-5)
+    assert size.socket_od_mm == pytest.approx(14.0 / math.cos(math.radians(15)) + 4.0, abs=SOCKET_OD_ROUNDING_MM)
+    assert size.socket_od_mm == pytest.approx(18.494, abs=SOCKET_OD_ROUNDING_MM)
+    assert 14.0 / math.cos(math.radians(30)) + 4.0 == pytest.approx(20.166, abs=SOCKET_OD_ROUNDING_MM)
+
+
+def test_the_13_16_in_socket_is_27_830_mm_across():
+    # 13/16 in = 20.6375 mm (NIST SP 811); / cos 30° = 23.830 mm (exact geometry) + 4.0 mm wall
+    size = load_catalog().hex_size(20.6375)
+    assert size.form == "six-point" and size.label == "13/16 in"
+    assert size.socket_od_mm == pytest.approx(27.830, abs=SOCKET_OD_ROUNDING_MM)
 
 
 def test_a_16_mm_socket_is_22_475_mm_across():
@@ -146,7 +191,9 @@ def test_the_14_mm_reaches_from_is_34_carry_its_ten_thou_tolerance():
     flat_m14 = {r.label: r for r in load_catalog().reaches if r.thread == "M14x1.25" and r.seat == "flat"}
     for label in ("1/2 in", "3/4 in"):
         assert flat_m14[label].tolerance_mm == pytest.approx(0.010 * INCH_MM)
-        assert "I.S. 34:1954" in flat_m14[label].source
+        assert "I.S. 34:1954" in flat_m14[label].source and "published" in flat_m14[label].source
+    # listed at the standard's exact value, 0.750 in = 19.05 mm (NIST SP 811), not the trade's 19.0
+    assert flat_m14["3/4 in"].reach_mm == 19.05
     assert flat_m14["3/8 in"].tolerance_mm is None  # common practice gives no tolerance
 
 
@@ -170,7 +217,40 @@ def test_torque_guidance_matches_the_common_practice_table():
     assert (conical_alu.min_nm, conical_alu.max_nm) == (10.0, 20.0)
     assert flat_alu.turn_angle_deg == 180.0 and flat_alu.reused_gasket_turn_angle_deg == 30.0
     assert conical_alu.turn_angle_deg == 22.5 and conical_alu.reused_gasket_turn_angle_deg is None
-    assert catalog.torque_for("M8x1", "flat", "aluminium") is None  # the table gives none
+    assert catalog.torque_for("M8x1", "flat", "aluminium") is None  # the guidance gives none
+
+
+@pytest.mark.parametrize(("thread", "new_gasket_deg", "grade"), [
+    ("M18x1.5", 180.0, "common practice"), ("M14x1.25", 180.0, "common practice"),  # 1/2 turn
+    ("M12x1.25", 120.0, "from memory"), ("M10x1", 90.0, "from memory"),  # about 1/4-1/3 turn, unsure
+    ("M8x1", None, "common practice")])  # no source gives an angle for M8
+def test_turn_angles_are_graded_per_size_with_the_reused_gasket_beside(thread, new_gasket_deg, grade):
+    # reference-values.md: new flat gasket about 1/2 turn on M14/M18, about 1/4-1/3 turn on
+    # M10/M12 (from memory, unsure); re-used gasket about 1/12 turn (30°), common practice
+    guide = load_catalog().torque_for(thread, "flat", "cast_iron")
+    assert guide.turn_angle_deg == new_gasket_deg
+    assert guide.reused_gasket_turn_angle_deg == (None if new_gasket_deg is None else 30.0)
+    assert grade in guide.source
+    if new_gasket_deg is not None:
+        assert "with a new gasket" in guide.source and "with a re-used gasket" in guide.source
+
+
+def test_torque_ranges_are_kept_as_their_source_states_them():
+    # common torque guidance (reference-values.md) is given in N·m, to whole units
+    for guide in load_catalog().torques.values():
+        assert guide.stated.unit == "N*m" and guide.stated.resolution == 1.0
+        assert (guide.stated.min, guide.stated.max) == (guide.min_nm, guide.max_nm)
+
+
+def test_a_range_stated_in_foot_pounds_is_converted_by_nist_sp_811(seed_copy):
+    # NIST SP 811 (2008), appendix B: 1 lbf·ft = 1.355 818 N·m
+    _edit(seed_copy / "torques.csv", "M14x1.25,flat,aluminium,25,30,N*m", "M14x1.25,flat,aluminium,18.5,22,lbf*ft")
+    guide = load_catalog(seed_copy).torque_for("M14x1.25", "flat", "aluminium")
+    assert guide.stated.unit == "lbf*ft" and guide.stated.resolution == pytest.approx(0.1)
+    assert guide.min_nm == pytest.approx(18.5 * 1.355818, abs=1e-5)
+    assert guide.max_nm == pytest.approx(22 * 1.355818, abs=1e-5)
+    assert guide.stated.newton_metres_per_unit == pytest.approx(
+        scipy.constants.pound_force * scipy.constants.foot, rel=1e-12)
 
 
 # --- version and cache ------------------------------------------------------------------
@@ -207,12 +287,17 @@ BAD_EDITS = [
     ("reaches.csv", "M12x1.25,flat,26.5,", ",flat,", ",conical,", "seat"),
     ("reaches.csv", "M12x1.25,flat,26.5,", ",26.5,", ",19.0,", "reach_mm"),  # duplicate
     ("reaches.csv", "M10x1,flat,12.7,", "M10x1,", "M11x1,", "thread"),
+    ("threads.csv", "M10x1,", ",6e,", ",6x,", "plug_thread_class"),
+    ("threads.csv", "M10x1,", re.compile(r'"[^"]*"$'), '"trade knowledge"', "source"),  # no grade
     ("hexes.csv", "18,", ",24.785,", ",19.5,", "socket_od_mm"),
+    ("hexes.csv", "14,", ",18.494,", ",14.4,", "socket_od_mm"),  # inside a twelve-point's corners
     ("hexes.csv", "16,", "16,", "15.875,", "across_flats_mm"),  # duplicate
+    ("hexes.csv", "16,", ",six-point,", ",eight-point,", "form"),
     ("torques.csv", "M10x1,flat,aluminium,", "aluminium", "magnesium", "material"),
     ("torques.csv", "M10x1,flat,aluminium,", "aluminium", "cast_iron", "material"),  # duplicate
-    ("torques.csv", "M10x1,flat,aluminium,", ",10,12,", ",12,10,", "max_nm"),
-    ("torques.csv", "M10x1,flat,aluminium,", ",10,12,", ",-10,12,", "min_nm"),
+    ("torques.csv", "M10x1,flat,aluminium,", ",10,12,", ",12,10,", "max"),
+    ("torques.csv", "M10x1,flat,aluminium,", ",10,12,", ",-10,12,", "min"),
+    ("torques.csv", "M10x1,flat,aluminium,", ",N*m,", ",kgf*m,", "unit"),
     ("torques.csv", "M14x1.25,conical,aluminium,", ",22.5,,", ",22.5,30,", "reused_gasket_turn_angle_deg"),
 ]
 
@@ -270,6 +355,15 @@ def test_the_document_is_json_with_sources_and_the_torque_caution():
     families = {f["family"]: set(f["members"]) for f in document["hex_families"]}
     assert families["16 mm / 5/8 in"] == {"16 mm", "5/8 in"}
     assert all(entry["source"] for entry in document["hexes"] + document["torque"] + document["threads"])
+    # the plug's class 6e: es = -63 µm for P = 1.25 (ISO 965-1), d 13.725 / 13.937 (derived)
+    assert m14["plug_thread_class"] == "6e"
+    assert m14["plug_thread_limits"]["external_major_mm"] == [13.725, 13.937]
+    assert {h["label"]: h["form"] for h in document["hexes"]}["14 mm"] == "twelve-point"
+    flat_alu = next(t for t in document["torque"] if (t["thread"], t["seat"], t["material"])
+                    == ("M14x1.25", "flat", "aluminium"))
+    assert flat_alu["as_stated"] == {"min": 25.0, "max": 30.0, "unit": "N*m"}
+    assert flat_alu["turn_angle_note"] == "after finger-tight, with a new gasket"
+    assert flat_alu["reused_gasket_turn_angle_deg"] == 30.0
     assert all(t["seat"] in SEATS and t["material"] in MATERIALS for t in document["torque"])
     assert any("service data" in c and "regulations" in c and "licensed practice" in c
                for c in document["cautions"])
