@@ -8,10 +8,10 @@ from __future__ import annotations
 
 from typing import Any
 
-from marshmallow import Schema, ValidationError, fields
+from marshmallow import Schema, ValidationError, fields, validate
 
-from service.fitment.model import Dim
-from service.units import UnitError, check_finite, parse_quantity
+from service.fitment.model import GRADES, Dim
+from service.units import UnitError, check_finite, parse_quantity, pressure_reference
 
 _NUMBER_OR_STRING = [{"type": "number"}, {"type": "string"}]
 # Component names of the object forms (registered by `service.web.smorest.ContractPlugin`
@@ -117,6 +117,39 @@ class Quantity(fields.Field):
         if value is not None and self.kind == "temperature":
             return f"{value!r} K"
         return value
+
+
+_ARTICLE = {"absolute": "an", "gauge": "a"}
+
+
+class Pressure(Quantity):
+    """A pressure counted from a zero the field fixes: `absolute` (from vacuum) or `gauge`
+    (above the atmosphere). A bare number is in bar of that kind; a string may say which
+    it is ("15 psig", "2.5 bara", "1.5 bar gauge"), and a string that says the other kind
+    is refused with `other_kind_hint`, the field to use instead."""
+
+    def __init__(self, reference: str, *, other_kind_hint: str, **kwargs: Any) -> None:
+        self.reference = reference
+        self.other_kind_hint = other_kind_hint
+        super().__init__("pressure", bare_unit=f"bar, {reference}", **kwargs)
+
+    def _deserialize(self, value: Any, attr: str | None, data: Any, **kwargs: Any) -> float:
+        said = None
+        if isinstance(value, str):
+            value, said = pressure_reference(value)
+        elif isinstance(value, dict) and isinstance(value.get("unit"), str):
+            unit, said = pressure_reference(value["unit"])
+            value = {**value, "unit": unit}
+        if said is not None and said != self.reference:
+            raise ValidationError(f"is {_ARTICLE[self.reference]} {self.reference} pressure, and {said!r} was given: "
+                                  f"{self.other_kind_hint}")
+        return super()._deserialize(value, attr, data, **kwargs)
+
+    def _check_range(self, number: float) -> None:
+        if self.minimum is not None and number < self.minimum:
+            raise ValidationError(f"must be at least {self.minimum:g} bar {self.reference}")
+        if self.maximum is not None and number > self.maximum:
+            raise ValidationError(f"must be at most {self.maximum:g} bar {self.reference}")
 
 
 CANONICAL_UNITS = {"length": "mm", "torque": "N*m", "pressure": "bar", "temperature": "K",
@@ -255,10 +288,15 @@ def rounded(value: float, digits: int) -> float:
 
 
 class QuantitySchema(Schema):
-    """A quantity in an answer: a number and its unit (ASCII, pint-parsable)."""
+    """A quantity in an answer: a number and its unit (ASCII, pint-parsable); where the
+    result says how sure it is, its grade and source."""
 
     value = fields.Float(required=True)
     unit = fields.String(required=True, metadata={"example": "mm"})
+    grade = fields.String(validate=validate.OneOf(GRADES), metadata={
+        "description": "how sure the value is, where the result says: published, derived, from memory or "
+                       "common practice (as the shared reference values grade them)"})
+    source = fields.String(metadata={"description": "where the value comes from, where the result says"})
 
 
 class LengthSchema(Schema):

@@ -7,14 +7,17 @@ writer's output through `FitResultSchema` so the two cannot drift apart.
 """
 from __future__ import annotations
 
+import math
 import re
 from functools import lru_cache
 from typing import Any
 
 from marshmallow import Schema, fields, validate
 
+from service.fitment.catalog import TURN_ANGLE_NOTES
 from service.fitment.checks import CHECK_NAMES
 from service.fitment.codes import FINDING_CODES
+from service.fitment.defaults import LUBRICATIONS
 from service.fitment.model import FitResult
 from service.units import from_canonical, output_unit
 
@@ -33,6 +36,32 @@ _MESSAGE_FORMAT = {"mm": "{:.2f} mm", "in": "{:.3f} in", "N*m": "{:.1f} N*m", "l
                    "kV": "{:.1f} kV", "bar": "{:.2f} bar", "psi": "{:.1f} psi", "N": "{:.0f} N",
                    "lbf": "{:.0f} lbf", "MPa": "{:.0f} MPa", "mm**2": "{:.1f} mm**2", "in**2": "{:.4f} in**2",
                    "K": "{:.0f} K", "deg": "{:.1f} deg", "": "{:.2f}"}
+# Steps numbers are rounded to where a person reads them (messages, the text report), per
+# output unit: torque wrenches in lbf·ft are read to half a unit, lengths in inches to a
+# thousandth. The JSON values keep their full digits.
+DISPLAY_STEPS = {"lbf*ft": 0.5, "in": 0.001}
+# The ends of a range shown in a coarser step are rounded inwards, so the range shown lies
+# inside the range checked: a torque read off the shown top (or the shown fail threshold)
+# is never above the real one.
+_RANGE_END_DIRECTION = {"min": 1, "max": -1, "fail_above": -1}
+
+
+def display_quantity(value: float, unit: str, direction: int = 0) -> str:
+    """A number and its unit as a person reads it: rounded to the unit's display step,
+    to the nearest step, or up (direction 1) or down (-1) for the ends of a range."""
+    step = DISPLAY_STEPS.get(unit)
+    if step is not None:
+        steps = value / step
+        whole = math.ceil(steps - 1e-9) if direction > 0 else math.floor(steps + 1e-9) if direction < 0 \
+            else round(steps)
+        value = whole * step
+    return _MESSAGE_FORMAT.get(unit, "{:g} " + unit).format(value).rstrip()
+
+
+def display_value(name: str, quantity: dict[str, Any]) -> str:
+    """A named value of a finding or an analysis as a person reads it (`display_quantity`,
+    the ends of a range rounded inwards)."""
+    return display_quantity(quantity["value"], quantity["unit"], _RANGE_END_DIRECTION.get(name, 0))
 
 
 class FindingSchema(Schema):
@@ -68,10 +97,16 @@ class GeometrySchema(Schema):
 
 
 class TorqueSchema(Schema):
-    min = fields.Float(required=True)
+    min = fields.Float(required=True, metadata={"description": "for the stated lubrication (lowered from the "
+                                                                "dry range for oiled or anti-seize threads)"})
     max = fields.Float(required=True)
     unit = fields.String(required=True, metadata={"example": "N*m"})
-    turn_angle_deg = fields.Float(allow_none=True)
+    lubrication = fields.String(required=True, validate=validate.OneOf(LUBRICATIONS), metadata={
+        "description": "what the range is for: the request's lubrication option, dry when not given"})
+    turn_angle_deg = fields.Float(allow_none=True, metadata={"description": "see turn_angle_note"})
+    turn_angle_note = fields.String(required=True, metadata={"example": "after finger-tight, with a new gasket"})
+    reused_gasket_turn_angle_deg = fields.Float(allow_none=True, metadata={
+        "description": "flat seat: after finger-tight with a re-used (already crushed) gasket"})
     source = fields.String(required=True)
 
 
@@ -164,9 +199,20 @@ def render_message(template: str, values: dict[str, dict[str, Any]]) -> str:
     for name, quantity in values.items():
         placeholder = "{" + name + "}"
         if placeholder in text:
-            shown = _MESSAGE_FORMAT.get(quantity["unit"], "{:g} " + quantity["unit"]).format(quantity["value"])
-            text = text.replace(placeholder, shown)
+            text = text.replace(placeholder, display_value(name, quantity))
     return text
+
+
+def _quantities(values: dict[str, tuple], converters: _Converters) -> dict[str, dict[str, Any]]:
+    """A finding's or an analysis's values in the output units; a value that carries its
+    grade and source (`model.SourcedValue`) keeps them."""
+    out = {}
+    for name, quantity in values.items():
+        unit, scale, offset, digits = converters[quantity[1]]
+        entry = out[name] = {"value": round(quantity[0] * scale + offset, digits), "unit": unit}
+        if len(quantity) == 4:
+            entry["grade"], entry["source"] = quantity[2], quantity[3]
+    return out
 
 
 def result_document(result: FitResult, system: str = "metric", shared: dict | None = None) -> dict[str, Any]:
@@ -193,23 +239,24 @@ def result_document(result: FitResult, system: str = "metric", shared: dict | No
                                           "severity": finding.severity, "message": message, "values": {}}
             findings.append(document)
             continue
-        values = {}
-        for name, (value, kind) in finding_values.items():
-            unit, scale, offset, digits = converters[kind]
-            values[name] = {"value": round(value * scale + offset, digits), "unit": unit}
+        values = _quantities(finding_values, converters)
         message = render_message(finding.message, values)
         findings.append({"code": finding.code, "check": finding.check, "severity": finding.severity,
                          "message": message if metric else in_units(message, system), "values": values})
     torque = None
     guide = result.torque
     if guide is not None:
-        key = ("torque", system, guide.min_nm, guide.max_nm, guide.turn_angle_deg, guide.source)
+        key = ("torque", system, guide.min_nm, guide.max_nm, guide.lubrication, guide.seat, guide.turn_angle_deg,
+               guide.reused_gasket_turn_angle_deg, guide.source)
         torque = shared.get(key)
         if torque is None:
             unit, scale, _, digits = _converter("torque", system)
             torque = shared[key] = {"min": round(guide.min_nm * scale, digits),
                                     "max": round(guide.max_nm * scale, digits), "unit": unit,
-                                    "turn_angle_deg": guide.turn_angle_deg, "source": guide.source}
+                                    "lubrication": guide.lubrication, "turn_angle_deg": guide.turn_angle_deg,
+                                    "turn_angle_note": TURN_ANGLE_NOTES[guide.seat],
+                                    "reused_gasket_turn_angle_deg": guide.reused_gasket_turn_angle_deg,
+                                    "source": guide.source}
     key = ("assumptions", *result.assumptions)
     assumptions = shared.get(key)
     if assumptions is None:
@@ -232,12 +279,7 @@ def result_document(result: FitResult, system: str = "metric", shared: dict | No
         geometry[name] = {"nominal": shown, "min": round(low * scale, digits),
                           "max": round(high * scale, digits), "rss_min": round(rss_low * scale, digits),
                           "rss_max": round(rss_high * scale, digits), "unit": unit}
-    analysis = {}
-    for check, quantities in result.analysis.items():
-        converted = analysis[check] = {}
-        for name, (value, kind) in quantities.items():
-            unit, scale, offset, digits = converters[kind]
-            converted[name] = {"value": round(value * scale + offset, digits), "unit": unit}
+    analysis = {check: _quantities(quantities, converters) for check, quantities in result.analysis.items()}
     return {
         "verdict": result.verdict,
         "thread": result.thread,

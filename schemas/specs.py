@@ -17,7 +17,7 @@ from service.fitment.defaults import LUBRICATIONS, STACKS
 from service.fitment.designation import format_designation, parse_designation
 from service.fitment.model import HeatRange, HeatRangeBand, Options, PlugSpec, PortSpec, Span
 
-from .fields import SEAT_ALIASES, Choice, Length, Quantity, WholeNumber
+from .fields import SEAT_ALIASES, Choice, Length, Pressure, Quantity, WholeNumber
 
 # The contract's identifier rule for sku and head_id.
 IDENTIFIER = validate.Regexp(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$",
@@ -198,9 +198,23 @@ class PortDimensionsSchema(Schema):
     heat_range_band = fields.Nested(HeatRangeBandSchema, allow_none=True)
     boot_range = fields.Nested(BootRangeSchema, allow_none=True)
     compression_ratio = fields.Float(allow_none=True, allow_nan=False, validate=validate.Range(1.0, 40.0))
-    intake_pressure = Quantity("pressure", minimum=0.05, maximum=10.0, bare_unit="bar, absolute", allow_none=True)
+    intake_pressure = Pressure("absolute", minimum=0.05, maximum=10.0, allow_none=True, other_kind_hint=(
+        "give a gauge reading (boost above the atmosphere) as boost_pressure"), metadata={"description": (
+            "absolute pressure in the intake at full load, boost included (a gauge reading plus the "
+            "atmosphere): 2.5 bar absolute is 1.5 bar of boost. Give this or boost_pressure, not both."),
+            "example": 1.0})
+    boost_pressure = Pressure("gauge", minimum=0.0, maximum=9.0, allow_none=True, other_kind_hint=(
+        "give an absolute reading as intake_pressure"), metadata={"description": (
+            "gauge pressure in the intake at full load: the boost above the atmosphere, as a boost gauge "
+            "reads it (\"15 psi\" here is 15 psi of boost). The standard atmosphere, 1.01325 bar absolute, "
+            "is added. Give this or intake_pressure, not both."), "example": 1.0})
+    forced_induction = fields.Boolean(allow_none=True, metadata={"description": (
+        "true for a turbocharged or supercharged engine. Without intake_pressure (absolute) or "
+        "boost_pressure (gauge) its gap voltage is then not checked, rather than estimated at the atmosphere.")})
     intake_temperature = Quantity("temperature", minimum=200.0, maximum=600.0, bare_unit="degC", allow_none=True)
-    peak_pressure = Quantity("pressure", minimum=1.0, maximum=500.0, bare_unit="bar, absolute", allow_none=True)
+    peak_pressure = Pressure("absolute", minimum=1.0, maximum=500.0, allow_none=True, other_kind_hint=(
+        "add the atmosphere to a gauge reading"), metadata={"description": (
+            "peak cylinder pressure, absolute (a gauge reading plus the atmosphere)")})
     ignition_voltage = Quantity("voltage", minimum=1.0, maximum=100.0, bare_unit="kV", allow_none=True)
     bore = Quantity("length", minimum=10.0, maximum=1000.0, bare_unit="mm", allow_none=True)
     stroke = Quantity("length", minimum=5.0, maximum=2000.0, bare_unit="mm", allow_none=True)
@@ -215,6 +229,12 @@ class PortDimensionsSchema(Schema):
                               ("valve_clearance", "seat_to_valve")):
             if data.get(first) is not None and data.get(second) is not None:
                 errors.setdefault(second, []).append(f"give {first} or {second}, not both")
+        if data.get("intake_pressure") is not None and data.get("boost_pressure") is not None:
+            errors.setdefault("boost_pressure", []).append(
+                "give intake_pressure (absolute) or boost_pressure (gauge), not both")
+        if data.get("forced_induction") is False and (data.get("boost_pressure") or 0.0) > 0.0:
+            errors.setdefault("boost_pressure", []).append(
+                "a head with forced_induction false has no boost (gauge pressure above the atmosphere)")
         depth, long_side = data.get("port_depth"), data.get("port_depth_long_side")
         if depth is not None and long_side is not None and long_side.nominal < depth.nominal:
             errors.setdefault("port_depth_long_side", []).append("the long side cannot be shorter than port_depth")
@@ -275,8 +295,9 @@ class FitCheckRequestSchema(Schema):
 _PLUG_FIELDS = ("reach", "gasket_thickness", "firing_end", "hex", "resistor", "terminal_height", "gap")
 _PORT_FIELDS = ("port_depth", "design_reach", "port_depth_long_side", "piston_clearance", "seat_to_piston",
                 "valve_clearance", "seat_to_valve", "well_bore", "hex", "resistor_required", "material",
-                "compression_ratio")
-_PORT_RENAMED = (("intake_pressure", "intake_pressure_bar"), ("intake_temperature", "intake_temperature_k"),
+                "compression_ratio", "forced_induction")
+_PORT_RENAMED = (("intake_pressure", "intake_pressure_bar"), ("boost_pressure", "boost_pressure_bar"),
+                 ("intake_temperature", "intake_temperature_k"),
                  ("peak_pressure", "peak_pressure_bar"), ("ignition_voltage", "ignition_voltage_kv"),
                  ("bore", "bore_mm"), ("stroke", "stroke_mm"), ("rod_length", "rod_length_mm"),
                  ("spark_advance", "spark_advance_deg"))

@@ -16,8 +16,17 @@ from functools import lru_cache
 from typing import NamedTuple
 
 from .context import FitContext, Skip, skip_reason
+from .defaults import CAUTIONS_WITH_ANTI_SEIZE
 from .designation import parse_designation
-from .spark import STANDARD_INTAKE_PRESSURE_BAR, STANDARD_INTAKE_TEMPERATURE_K, estimate_spark
+from .model import SourcedValue, Value, least_sure
+from .spark import (
+    STANDARD_INTAKE_PRESSURE_BAR,
+    STANDARD_INTAKE_TEMPERATURE_K,
+    TYPICAL_FULL_LOAD_SPARK_ADVANCE_DEG,
+    TYPICAL_ROD_RATIO,
+    estimate_spark,
+    rod_ratio_of,
+)
 from .stack import Stack
 from .strength import (
     HEAD_MATERIAL_SHEAR_STRENGTH,
@@ -27,6 +36,15 @@ from .strength import (
     thread_strength,
 )
 from .threads import ThreadLimits
+from .torque import (
+    ABOVE,
+    BELOW,
+    FAR_ABOVE,
+    LUBRICATION_WORDS,
+    WITHIN,
+    place,
+    torque_limits,
+)
 
 LENGTH = "length"
 TORQUE = "torque"
@@ -192,6 +210,8 @@ def check_valve(ctx: FitContext) -> None:
 
 
 def check_tool_clearance(ctx: FitContext) -> None:
+    """Does the socket for the plug's hex pass the head's plug well? The socket follows the
+    hex's form in the catalogue: a twelve-point (bi-hex) socket is slimmer than a six-point one."""
     hex_mm, well_bore = ctx.plug.hex, ctx.port.well_bore
     if hex_mm is None or well_bore is None:
         ctx.skip(_TOOL_CLEARANCE_NOT_GIVEN)
@@ -202,11 +222,22 @@ def check_tool_clearance(ctx: FitContext) -> None:
         return
     if size.socket_od_mm > well_bore + EPSILON_MM:
         ctx.add("TOOL_CLEARANCE", "tool_clearance", "fail",
-                "A thin-wall socket for the {hex} hex is about {socket_od} across, wider than "
+                f"A thin-wall {size.form} socket for the {{hex}} hex is about {{socket_od}} across, wider than "
                 "the plug well's {well_bore} bore by {interference}: the plug cannot be fitted "
                 "or removed with a socket.",
                 hex=(hex_mm, LENGTH), socket_od=(size.socket_od_mm, LENGTH),
                 well_bore=(well_bore, LENGTH), interference=(size.socket_od_mm - well_bore, LENGTH))
+    elif size.form == "twelve-point":
+        # The catalogue's form is the usual one for this size; a six-point hex of the same
+        # size needs a socket wider by the difference of the two across-corners (same wall).
+        six_point_od = size.socket_od_mm + size.across_flats_mm * (1.0 / _COS_30 - 1.0 / _COS_15)
+        if six_point_od > well_bore + EPSILON_MM:
+            ctx.assume(f"tool clearance: the {size.label} hex is taken as twelve-point, as the catalogue gives "
+                       f"it; a six-point {size.label} hex needs a socket about {six_point_od:.1f} mm across, "
+                       "wider than this well: check the plug's hex form")
+
+
+_COS_30, _COS_15 = math.cos(math.radians(30.0)), math.cos(math.radians(15.0))
 
 
 def _hex_family(ctx: FitContext, hex_mm: float) -> str:
@@ -240,6 +271,8 @@ def check_resistor(ctx: FitContext) -> None:
 
 
 def check_torque(ctx: FitContext) -> None:
+    """Is the planned torque inside the recommended range for this port and lubrication?
+    The range, its lowering for a lubricant and the comparison: `torque.py`."""
     port = ctx.port
     material = port.material
     if material is None:
@@ -250,35 +283,65 @@ def check_torque(ctx: FitContext) -> None:
         ctx.not_checked("torque", f"the catalogue has no torque guidance for {port.thread} "
                                   f"{port.seat} seat in {material.replace('_', ' ')}")
         return
-    ctx.torque = guide
-    if ctx.options.lubrication not in (None, "dry"):
-        ctx.assume("the torque guidance is for clean, dry threads; lubricated threads reach a "
-                   "higher preload at the same torque")
+    lubrication = ctx.options.lubrication
+    if lubrication is None:
+        lubrication = "dry"
+        ctx.assume(_DRY_THREADS_ASSUMED)
+    elif lubrication == "anti_seize":
+        ctx.cautions = CAUTIONS_WITH_ANTI_SEIZE
+    limits = torque_limits(guide)[lubrication]
+    guide = ctx.torque = limits.guide
     planned = ctx.options.torque
-    if planned is not None and not (guide.min_nm - 1e-9 <= planned <= guide.max_nm + 1e-9):
-        ctx.add("TORQUE_OUT_OF_RANGE", "torque", "warn", _TORQUE_MESSAGES[planned < guide.min_nm],
-                planned=(planned, TORQUE), min=(guide.min_nm, TORQUE), max=(guide.max_nm, TORQUE))
+    if planned is None:
+        return
+    standing = place(planned, limits)
+    # The range's own values are made once per range (`torque.TorqueLimits`); a copy gets the planned torque.
+    values = dict(limits.values)
+    values["planned"] = (planned, TORQUE)
+    values["dry_equivalent"] = (planned / limits.lubrication_ratio, TORQUE)
+    ctx.analysis["torque"] = values
+    if standing != WITHIN:
+        ctx.add("TORQUE_OUT_OF_RANGE", "torque", "fail" if standing == FAR_ABOVE else "warn",
+                _TORQUE_MESSAGES[standing, lubrication], **values)
 
 
-def _torque_message(side: str) -> str:
-    return (f"The planned torque of {{planned}} is {side} the recommended {{min}} to {{max}} "
-            "for this thread, seat and head material" +
-            (": the plug may loosen or leak." if side == "below" else
-             ": it can stretch the shell or strip the head's threads."))
+_DRY_THREADS_ASSUMED = ("lubrication not given: the torque range for clean, dry threads is used "
+                        "(give lubrication: oiled or anti_seize to have it lowered)")
 
 
-# (above, below) the range, keyed by `planned < min`; built once, not per finding.
-_TORQUE_MESSAGES = {False: _torque_message("above"), True: _torque_message("below")}
+def _torque_message(standing: str, lubrication: str) -> str:
+    where = (f"the recommended {{min}} to {{max}} for this thread, seat and head material, with "
+             f"{LUBRICATION_WORDS[lubrication]}")
+    if standing == BELOW:
+        return (f"The planned torque of {{planned}} is below {where}: the plug may loosen and leak, and a "
+                "loose seat passes less heat to the head, so the tip runs hot.")
+    if standing == ABOVE:
+        return (f"The planned torque of {{planned}} is above {where}: it can stretch the plug's shell and "
+                "strip the head's threads. Above {fail_above}, half again the top of the range, it fails.")
+    return (f"The planned torque of {{planned}} is more than half again the top of {where} (it fails above "
+            "{fail_above}): it stretches the plug's shell, which then no longer holds its seat tight, so the "
+            "seal is lost (compression and hot gas leak past and the plug overheats), and it can strip the "
+            "head's threads. Shell stretch is not modelled here: no published source gives a plug shell's "
+            "section.")
+
+
+# Every message, by (where the torque lies, lubrication); built once, not per finding.
+_TORQUE_MESSAGES = {(standing, lubrication): _torque_message(standing, lubrication)
+                    for standing in (BELOW, ABOVE, FAR_ABOVE) for lubrication in LUBRICATION_WORDS}
 
 
 def check_thread_strength(ctx: FitContext) -> None:
     """Will the head's thread hold? Preload plus gas load against the port thread's shear
     strength over the worst-case engaged length (model and sources: `strength.py`)."""
     plug, port, options = ctx.plug, ctx.port, ctx.options
-    thread = _port_thread(port.thread) if plug.thread == port.thread and plug.seat == port.seat else None
+    size = ctx.catalog.threads.get(port.thread)
+    plug_class = _LOOSER_PLUG_CLASS if size is None else size.plug_thread_class
+    thread = _port_thread(port.thread, plug_class) if plug.thread == port.thread and plug.seat == port.seat else None
     if thread is None:
         ctx.skip(_THREAD_STRENGTH_OTHER_THREAD)
         return
+    if size is None:
+        ctx.assume(_LOOSER_CLASS_ASSUMED)
     if "thread_protrusion" not in ctx.geometry:  # there is a thread end and a port depth
         ctx.not_checked("thread_strength", _missing_for_thread_end(ctx, need_port=True))
         return
@@ -290,8 +353,9 @@ def check_thread_strength(ctx: FitContext) -> None:
             ctx.not_checked("thread_strength", "no planned torque given and the catalogue has no torque "
                                                f"guidance for {port.thread} {port.seat} seat")
             return
-        torque = guide.max_nm
-        ctx.assume("thread strength: no planned torque: the top of the recommended range is used")
+        torque = torque_limits(guide)[options.lubrication or "dry"].guide.max_nm
+        ctx.assume("thread strength: no planned torque: the top of the recommended range (for the stated "
+                   "lubrication) is used")
     if port.material is None:
         ctx.assume("thread strength: head material not given: aluminium (the weaker) is assumed")
     if options.lubrication is None:
@@ -299,7 +363,8 @@ def check_thread_strength(ctx: FitContext) -> None:
                    "(Shigley table 8-15), is used")
     if port.peak_pressure_bar is None:
         ctx.assume("thread strength: peak_pressure not given: the gas load is left out")
-    diameter, pitch, limits, allowances = thread
+    diameter, pitch, limits, allowances, area_source = thread
+    hot_shear_strength, strength_values, shear_strength_grade = _HEAD_MATERIALS[material]
     # Worst-case ends of the stand-off and the port depth, as `Stack.bounds` computes them.
     gasket, depth = ctx.gasket, ctx.port_depth
     # A thread protrusion exists, so the plug has a reach and the port a depth.
@@ -313,19 +378,19 @@ def check_thread_strength(ctx: FitContext) -> None:
         torque_nm=torque, lubrication=options.lubrication, seat=port.seat, nominal_diameter_mm=diameter,
         pitch_mm=pitch, external_major_min_mm=limits.external_major_min_mm,
         internal_pitch_max_mm=limits.internal_pitch_max_mm, engaged_length_mm=engaged,
-        shear_strength_mpa=HEAD_MATERIAL_SHEAR_STRENGTH[material].shear_strength_mpa,
-        peak_pressure_bar=port.peak_pressure_bar)
+        shear_strength_mpa=hot_shear_strength, peak_pressure_bar=port.peak_pressure_bar)
     (torque_nm, nut_factor, preload, gas_load, engaged_length, shear_area, shear_strength, strip_strength,
      safety_factor, min_safety_factor) = result  # one unpacking instead of eleven field reads
     if not math.isfinite(safety_factor):  # a planned torque of (nearly) zero and no gas load
         ctx.not_checked("thread_strength", "the planned torque puts practically no load on the thread")
         return
-    values = {"torque": (torque_nm, TORQUE), "nut_factor": (nut_factor, "ratio"),
-              "preload": (preload, "force"), "gas_load": (gas_load, "force"),
-              "load": (preload + gas_load, "force"),
-              "engaged_length": (engaged_length, LENGTH), "shear_area": (shear_area, "area"),
-              "shear_strength": (shear_strength, "stress"), "strip_strength": (strip_strength, "force"),
-              "safety_factor": (safety_factor, "ratio"), "min_safety_factor": (min_safety_factor, "ratio")}
+    values: dict[str, Value | SourcedValue] = {
+        "torque": (torque_nm, TORQUE), "nut_factor": (nut_factor, "ratio"),
+        "preload": (preload, "force"), "gas_load": (gas_load, "force"), "load": (preload + gas_load, "force"),
+        "engaged_length": (engaged_length, LENGTH), "shear_area": (shear_area, "area", "derived", area_source),
+        **strength_values, "shear_strength": (shear_strength, "stress", *shear_strength_grade),
+        "strip_strength": (strip_strength, "force"), "safety_factor": (safety_factor, "ratio"),
+        "min_safety_factor": (min_safety_factor, "ratio")}
     ctx.analysis["thread_strength"] = values
     if safety_factor < min_safety_factor:  # ThreadStrength.at_risk
         ctx.add("THREAD_STRIP_RISK", "thread_strength", "warn",
@@ -336,17 +401,49 @@ def check_thread_strength(ctx: FitContext) -> None:
                 "thread insert. This is guidance: the engine maker's data comes first.", **values)
 
 
+_PortThread = tuple[float, float, ThreadLimits, EngagementAllowances, str]
+_LOOSER_PLUG_CLASS = "6e"
+_LOOSER_CLASS_ASSUMED = ("thread strength: the catalogue does not list this thread: the plug's thread is taken "
+                         "as class 6e, the looser class (ISO 965-1), which gives the smaller shear area")
+
+
 @lru_cache(maxsize=256)
-def _port_thread(designation: str) -> tuple[float, float, ThreadLimits, EngagementAllowances] | None:
-    """Diameter, pitch, 6g/6H limits and engagement allowances of a port thread, or None
-    for an unreadable or bare designation. One cached look-up per fit instead of three:
-    build lists and fitting-plugs searches repeat a handful of thread sizes."""
+def _port_thread(designation: str, plug_class: str) -> _PortThread | None:
+    """Diameter, pitch, ISO 965-1 limits (the plug's class in a 6H port), engagement
+    allowances and the shear area's source, or None for an unreadable or bare designation.
+    One cached look-up per fit instead of four: build lists and fitting-plugs searches
+    repeat a handful of thread sizes."""
     size = parse_designation(designation)
     if size is None or size[1] is None:
         return None
     diameter, pitch = size
     assert pitch is not None
-    return diameter, pitch, port_thread_limits(diameter, pitch), EngagementAllowances.common_practice(pitch)
+    limits = port_thread_limits(diameter, pitch, plug_class)
+    source = (f"FED-STD-H28/2B appendix and Machinery's Handbook, 29th ed. (published formula), with the "
+              f"ISO 965-1 limits of a {plug_class} plug thread (d min {limits.external_major_min_mm:.3f} mm) "
+              f"in a 6H port (D2 max {limits.internal_pitch_max_mm:.3f} mm)")
+    return diameter, pitch, limits, EngagementAllowances.common_practice(pitch), source
+
+
+class _HeadMaterial(NamedTuple):
+    """A head material's strengths as the stripping check uses them, made once at import:
+    the derated strength, and the analysis values with their grades and sources."""
+
+    hot_shear_strength_mpa: float
+    values: dict[str, Value | SourcedValue]  # the room-temperature minimum and the derating
+    shear_strength_grade: tuple[str, str]  # grade and source of the derated strength
+
+
+_HEAD_MATERIALS = {
+    name: _HeadMaterial(
+        strength.hot_shear_strength_mpa,
+        {"room_temperature_shear_strength": (strength.shear_strength_mpa, "stress", strength.grade, strength.source),
+         "hot_boss_derating": (strength.hot_derating, "ratio", strength.hot_derating_grade,
+                               strength.hot_derating_source)},
+        (least_sure(strength.grade, strength.hot_derating_grade),
+         (f"the minimum at room temperature ({strength.shear_strength_mpa:.1f} MPa) x the hot-boss derating "
+         f"({strength.hot_derating:g})")))
+    for name, strength in HEAD_MATERIAL_SHEAR_STRENGTH.items()}
 
 
 def check_gap_voltage(ctx: FitContext) -> None:
@@ -364,32 +461,70 @@ def check_gap_voltage(ctx: FitContext) -> None:
         ctx.not_checked("gap_voltage", "the rod_length must be longer than half the stroke")
         return
     pressure, temperature = port.intake_pressure_bar, port.intake_temperature_k
-    if pressure is None:
+    if pressure is None and port.boost_pressure_bar is not None:
+        pressure = STANDARD_INTAKE_PRESSURE_BAR + port.boost_pressure_bar
+        ctx.assume(_BOOST_READ_AS_GAUGE)
+    elif pressure is None:
+        if port.forced_induction:
+            ctx.skip(_BOOSTED_WITHOUT_PRESSURE)
+            return
         pressure = STANDARD_INTAKE_PRESSURE_BAR
-        ctx.assume("gap voltage: intake_pressure not given: 1.01325 bar, unboosted sea level (ISO 2533)")
+        ctx.assume(_UNBOOSTED_ASSUMED[port.forced_induction is None])
     if temperature is None:
         temperature = STANDARD_INTAKE_TEMPERATURE_K
         ctx.assume("gap voltage: intake_temperature not given: 15 °C (ISO 2533 sea level)")
-    if port.spark_advance_deg is None or port.stroke_mm is None or port.rod_length_mm is None:
-        ctx.assume("gap voltage: no spark timing and crank geometry: the charge is taken at top dead "
-                   "centre, the densest and most demanding moment")
+    advance = port.spark_advance_deg
+    if advance is None:
+        advance = TYPICAL_FULL_LOAD_SPARK_ADVANCE_DEG
+        ctx.assume(_TYPICAL_TIMING_ASSUMED)
+    if port.stroke_mm is not None and port.rod_length_mm is not None:
+        rod_ratio = rod_ratio_of(port.stroke_mm, port.rod_length_mm)
+    else:
+        rod_ratio = TYPICAL_ROD_RATIO
+        if advance:
+            ctx.assume(_TYPICAL_ROD_RATIO_ASSUMED)
     estimate = estimate_spark(gap_mm=gap, available_kv=port.ignition_voltage_kv,
                               compression_ratio=port.compression_ratio, intake_pressure_bar=pressure,
-                              intake_temperature_k=temperature, spark_advance_deg=port.spark_advance_deg,
-                              stroke_mm=port.stroke_mm, rod_length_mm=port.rod_length_mm)
-    values = {"gap": (gap, LENGTH), "density_ratio": (estimate.density_ratio, "ratio"),
-              "equivalent_pressure": (estimate.equivalent_pressure_bar, "pressure"),
-              "demand": (estimate.demand_kv, "voltage"), "available": (estimate.available_kv, "voltage"),
-              "reserve": (estimate.available_kv - estimate.usable_kv, "voltage"),
-              "usable": (estimate.usable_kv, "voltage"), "largest_gap": (estimate.largest_gap_mm, LENGTH)}
+                              intake_temperature_k=temperature, spark_advance_deg=advance, rod_ratio=rod_ratio)
+    values: dict[str, Value | SourcedValue] = {
+        "gap": (gap, LENGTH), "intake_pressure": (pressure, "pressure"), "spark_advance": (advance, "angle"),
+        "density_ratio": (estimate.density_ratio, "ratio"),
+        "equivalent_pressure": (estimate.equivalent_pressure_bar, "pressure"),
+        "demand": (estimate.demand_kv, "voltage"),
+        "demand_at_tdc": (estimate.demand_at_tdc_kv, "voltage", *_UPPER_BOUND),
+        "available": (estimate.available_kv, "voltage"),
+        "reserve": (estimate.available_kv - estimate.usable_kv, "voltage"),
+        "usable": (estimate.usable_kv, "voltage"), "largest_gap": (estimate.largest_gap_mm, LENGTH)}
     ctx.analysis["gap_voltage"] = values
     if estimate.short_of_reserve:
         ctx.add("GAP_VOLTAGE_MARGIN", "gap_voltage", "warn",
-                "A {gap} gap is estimated to need {demand} to spark in the compressed charge, more than "
-                "the {usable} left when {reserve} of the ignition's {available} is kept in reserve: "
-                "expect misfires as the electrodes wear. A gap up to about {largest_gap} keeps the "
-                "reserve. This is an estimate for comparing choices, not a substitute for the engine "
-                "maker's gap specification.", **values)
+                "A {gap} gap is estimated to need {demand} to spark at {spark_advance} before top dead centre "
+                "with {intake_pressure} absolute in the intake, more than the {usable} left when {reserve} of "
+                "the ignition's {available} is kept in reserve: expect misfires as the electrodes wear. A gap "
+                "up to about {largest_gap} keeps the reserve. This is an estimate for comparing choices, not a "
+                "substitute for the engine maker's gap specification.", **values)
+
+
+_BOOST_READ_AS_GAUGE = ("gap voltage: boost_pressure is gauge (above the atmosphere): the standard atmosphere, "
+                        "1.01325 bar absolute (ISO 2533), is added for the absolute intake pressure")
+_BOOSTED_WITHOUT_PRESSURE = skip_reason(
+    "gap_voltage", "the head is boosted (forced_induction) and gives neither intake_pressure (absolute) nor "
+    "boost_pressure (gauge): the charge at the spark cannot be estimated, and the atmosphere would understate it")
+_UNBOOSTED_ASSUMED = {
+    False: "gap voltage: intake_pressure (absolute) and boost_pressure (gauge) not given: 1.01325 bar absolute, "
+           "unboosted at sea level (ISO 2533)",
+    True: "gap voltage: intake_pressure (absolute), boost_pressure (gauge) and forced_induction not given: "
+          "1.01325 bar absolute, unboosted at sea level (ISO 2533); a boosted engine must give its pressure",
+}
+_TYPICAL_TIMING_ASSUMED = (
+    f"gap voltage: spark_advance not given: {TYPICAL_FULL_LOAD_SPARK_ADVANCE_DEG:g} deg before top dead centre, a "
+    "typical full-load timing (20-35 deg is common, from memory); the top-dead-centre demand, the upper bound, "
+    "is given beside it")
+_TYPICAL_ROD_RATIO_ASSUMED = (
+    f"gap voltage: stroke and rod_length not given: a rod length of {TYPICAL_ROD_RATIO:g} crank radii (Heywood, "
+    "Internal Combustion Engine Fundamentals, 1988: 3 to 4 for small and medium engines; from memory)")
+_UPPER_BOUND = ("derived", ("the upper bound: the same estimate with the charge at top dead centre, the densest "
+                           "moment (about twice a running engine's demand)"))
 
 
 def check_heat_range(ctx: FitContext) -> None:

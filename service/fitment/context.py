@@ -6,13 +6,14 @@ defaults and requirements the same way.
 """
 from __future__ import annotations
 
+from collections.abc import Mapping
 from functools import lru_cache
 from operator import itemgetter
 from typing import NamedTuple
 
 from .catalog import Catalog, TorqueGuide
-from .defaults import DYNAMIC_ALLOWANCE_MM, FLUSH_TOLERANCE_MM, MIN_CLEARANCE_MM, Default
-from .model import Finding, Options, PlugSpec, PortSpec, Value
+from .defaults import CAUTIONS, DYNAMIC_ALLOWANCE_MM, FLUSH_TOLERANCE_MM, MIN_CLEARANCE_MM, Default
+from .model import Finding, Options, PlugSpec, PortSpec, SourcedValue, Value
 from .stack import Bounds, Stack
 
 
@@ -55,6 +56,7 @@ class FitContext:
         "analysis",
         "assumptions",
         "catalog",
+        "cautions",
         "findings",
         "gasket",
         "geometry",
@@ -75,9 +77,11 @@ class FitContext:
         self.options = options
         self.catalog = catalog
         self.findings: list[Finding] = []
-        self.analysis: dict[str, dict[str, Value]] = {}
+        self.analysis: dict[str, Mapping[str, Value | SourcedValue]] = {}
         self.assumptions: list[str] = []
         self.torque: TorqueGuide | None = None
+        # The result's cautions: the general ones, and more when a check finds a reason.
+        self.cautions: tuple[str, ...] = CAUTIONS
         self.geometry: dict[str, Bounds] = {}
         # Stacks along the plug axis (mm from the head's seat face); None when the
         # inputs needed for them are missing. Filled by `geometry.derive`.
@@ -110,7 +114,7 @@ class FitContext:
         return None if end is None or firing_end is None else end + firing_end
 
     # --- reporting -------------------------------------------------------------------
-    def add(self, code: str, check: str, severity: str, message: str, **values: Value) -> None:
+    def add(self, code: str, check: str, severity: str, message: str, **values: Value | SourcedValue) -> None:
         rank = _SEVERITY_RANK[severity]
         self.worst = max(self.worst, rank)
         # tuple.__new__ skips the NamedTuple's Python-level __new__; same fields, same order.

@@ -10,11 +10,10 @@ from collections.abc import Iterable
 from .catalog import Catalog
 from .checks import CHECKS
 from .context import FitContext
-from .defaults import CAUTIONS
 from .geometry import derive
 from .model import Finding, FitResult, Options, PlugSpec, PortSpec
 
-ENGINE_VERSION = "1.0.0"
+ENGINE_VERSION = "1.1.0"
 
 _SEVERITY_RANK = {"info": 0, "warn": 1, "fail": 2}
 _VERDICTS = ("pass", "warn", "fail")
@@ -42,4 +41,4 @@ def check_fit(plug: PlugSpec, port: PortSpec, options: Options | None, catalog: 
     # Positional, in FitResult's field order: by keyword the call costs about 0.3 µs more,
     # a few per cent of a whole check.
     return FitResult(_VERDICTS[ctx.worst], plug.thread, ctx.findings, ctx.geometry, ctx.analysis, ctx.torque,
-                     ctx.assumptions, CAUTIONS, ENGINE_VERSION, catalog.version)
+                     ctx.assumptions, ctx.cautions, ENGINE_VERSION, catalog.version)

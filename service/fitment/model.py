@@ -6,6 +6,7 @@ converted at the boundary (`service.units`, `schemas/`) before anything reaches 
 """
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 from operator import itemgetter
 from typing import TYPE_CHECKING, NamedTuple, Self
@@ -151,7 +152,7 @@ class Finding(NamedTuple):
     check: str
     severity: str
     message: str
-    values: dict[str, Value] = {}  # noqa: RUF012 - never mutated: a finding is immutable once made
+    values: dict[str, Value | SourcedValue] = {}  # noqa: RUF012 - never mutated: a finding is immutable once made
 
 
 @dataclass(slots=True)
@@ -160,7 +161,7 @@ class FitResult:
     thread: str
     findings: list[Finding]
     geometry: dict[str, Bounds]
-    analysis: dict[str, dict[str, Value]]
+    analysis: dict[str, Mapping[str, Value | SourcedValue]]
     torque: TorqueGuide | None
     assumptions: list[str]
     cautions: tuple[str, ...]

@@ -7,6 +7,11 @@ that moment, whatever the temperature rise (the polytropic exponent cancels). Th
 density is expressed as the pressure the same gas would have at 293 K, the reference of
 the uniform-field relation, and the breakdown voltage follows from that pressure × gap.
 
+The moment is the spark: by default a typical full-load timing (25° before top dead
+centre), where the charge is well short of its top-dead-centre density. The
+top-dead-centre figure, about twice a running engine's demand, is reported beside it as
+the upper bound.
+
 These are ESTIMATES FOR COMPARING CHOICES (a wider gap, more boost, a higher compression
 ratio), not a maker's gap specification: a real gap has a non-uniform field, hot
 electrodes, fuel vapour and residual gas, and wears. The values are guidance; the engine
@@ -48,9 +53,21 @@ IGNITION_RESERVE_FRACTION = 0.20
 
 # Intake conditions assumed when a request gives none: sea-level standard atmosphere
 # (ISO 2533:1975: 101.325 kPa, 15 °C; published), i.e. an unthrottled, unboosted engine
-# on a cool day — a dense charge, so the demand is not underestimated.
+# on a cool day — a dense charge, so the demand is not underestimated. The same
+# atmosphere turns a gauge boost pressure into the absolute intake pressure.
 STANDARD_INTAKE_PRESSURE_BAR = 1.01325
 STANDARD_INTAKE_TEMPERATURE_K = 288.15
+
+# The spark timing assumed when a head gives none: 25° before top dead centre. Full-load
+# timing is commonly some 20–35° before top dead centre (reference-values.md, from
+# memory); 25° lies on the later, denser side of that band's middle, so a typical
+# full-load demand is not underestimated. Grade: from memory.
+TYPICAL_FULL_LOAD_SPARK_ADVANCE_DEG = 25.0
+# R = l/a when a head gives no stroke and rod length: 3.5, the middle of the 3 to 4 that
+# Heywood gives for small and medium engines (Internal Combustion Engine Fundamentals,
+# 1988, section 2.2; from memory). At 25° the volume depends little on it: over R = 3 to 4
+# the density ratio moves by about 2 % (a larger R is a denser charge).
+TYPICAL_ROD_RATIO = 3.5
 
 
 def air_density_kg_m3(pressure_bar: float, temperature_k: float) -> float:
@@ -65,15 +82,17 @@ def density_equivalent_pressure_bar(density_kg_m3: float) -> float:
     return density_kg_m3 * AIR_GAS_CONSTANT_J_PER_KG_K * REFERENCE_TEMPERATURE_K / PA_PER_BAR
 
 
-def cylinder_volume_ratio(crank_angle_deg: float, compression_ratio: float,
-                          stroke_mm: float, rod_length_mm: float) -> float:
+def rod_ratio_of(stroke_mm: float, rod_length_mm: float) -> float:
+    """R = l/a, the connecting rod's length over the crank radius (half the stroke)."""
+    return rod_length_mm / (stroke_mm / 2.0)
+
+
+def cylinder_volume_ratio(crank_angle_deg: float, compression_ratio: float, rod_ratio: float) -> float:
     """V/Vc, the cylinder volume over the clearance volume, at a crank angle from TDC.
 
-    The bore cancels out of the ratio, so it is not needed. The angle may be given
-    before or after top dead centre: the geometry is symmetric.
+    The bore and the stroke cancel out of the ratio; only the rod ratio R = l/a is needed.
+    The angle may be given before or after top dead centre: the geometry is symmetric.
     """
-    crank_radius = stroke_mm / 2.0
-    rod_ratio = rod_length_mm / crank_radius  # R = l/a
     theta = math.radians(crank_angle_deg)
     # Heywood, Internal Combustion Engine Fundamentals (1988), eq. 2.6 (from memory):
     # V/Vc = 1 + ½(rc − 1)·[R + 1 − cos θ − √(R² − sin² θ)]
@@ -82,18 +101,13 @@ def cylinder_volume_ratio(crank_angle_deg: float, compression_ratio: float,
     )
 
 
-def density_ratio_at_spark(compression_ratio: float, spark_advance_deg: float | None = None,
-                           stroke_mm: float | None = None, rod_length_mm: float | None = None) -> float:
-    """How much denser the charge is at the spark than in the intake.
-
-    With the spark timing and the crank geometry: compression ratio over the slider-crank
-    volume ratio at that angle. Without: the compression ratio itself (the charge at top
-    dead centre, the densest moment, so the demand is not underestimated).
-    """
-    if spark_advance_deg is None or stroke_mm is None or rod_length_mm is None:
-        return compression_ratio
+def density_ratio_at_spark(compression_ratio: float, spark_advance_deg: float = 0.0,
+                           rod_ratio: float = TYPICAL_ROD_RATIO) -> float:
+    """How much denser the charge is at the spark than in the intake: the compression
+    ratio over the slider-crank volume ratio at that crank angle (at top dead centre,
+    an advance of 0, the compression ratio itself: the densest moment)."""
     # mass is conserved: ρ_spark/ρ_intake = V_intake/V_spark = rc / (V/Vc)
-    return compression_ratio / cylinder_volume_ratio(spark_advance_deg, compression_ratio, stroke_mm, rod_length_mm)
+    return compression_ratio / cylinder_volume_ratio(spark_advance_deg, compression_ratio, rod_ratio)
 
 
 def uniform_field_breakdown_kv(pressure_bar: float, gap_mm: float) -> float:
@@ -173,11 +187,11 @@ def breakdown_kv(pressure_bar: float, gap_mm: float) -> float:
 
 
 def spark_pressure_bar(intake_pressure_bar: float, intake_temperature_k: float, compression_ratio: float,
-                       spark_advance_deg: float | None = None, stroke_mm: float | None = None,
-                       rod_length_mm: float | None = None) -> float:
-    """The density-equivalent pressure (bar at 293 K) of the charge at the spark."""
+                       spark_advance_deg: float = 0.0, rod_ratio: float = TYPICAL_ROD_RATIO) -> float:
+    """The density-equivalent pressure (bar at 293 K) of the charge at the spark; the
+    intake pressure is absolute."""
     intake_density = air_density_kg_m3(intake_pressure_bar, intake_temperature_k)
-    ratio = density_ratio_at_spark(compression_ratio, spark_advance_deg, stroke_mm, rod_length_mm)
+    ratio = density_ratio_at_spark(compression_ratio, spark_advance_deg, rod_ratio)
     return density_equivalent_pressure_bar(intake_density * ratio)
 
 
@@ -227,6 +241,7 @@ class SparkEstimate(NamedTuple):
     equivalent_pressure_bar: float
     gap_mm: float
     demand_kv: float
+    demand_at_tdc_kv: float  # the upper bound: the same gap with the charge at top dead centre
     available_kv: float
     usable_kv: float
     reserve_fraction: float
@@ -239,12 +254,13 @@ class SparkEstimate(NamedTuple):
 
 def estimate_spark(*, gap_mm: float, available_kv: float, compression_ratio: float,
                    intake_pressure_bar: float, intake_temperature_k: float,
-                   spark_advance_deg: float | None = None, stroke_mm: float | None = None,
-                   rod_length_mm: float | None = None,
+                   spark_advance_deg: float = TYPICAL_FULL_LOAD_SPARK_ADVANCE_DEG,
+                   rod_ratio: float = TYPICAL_ROD_RATIO,
                    reserve_fraction: float = IGNITION_RESERVE_FRACTION) -> SparkEstimate:
-    """Demand of this gap against the ignition's available voltage less the reserve."""
+    """Demand of this gap at the spark against the ignition's available voltage less the
+    reserve, with the top-dead-centre demand beside it. The intake pressure is absolute."""
     intake_density = air_density_kg_m3(intake_pressure_bar, intake_temperature_k)
-    ratio = density_ratio_at_spark(compression_ratio, spark_advance_deg, stroke_mm, rod_length_mm)
+    ratio = density_ratio_at_spark(compression_ratio, spark_advance_deg, rod_ratio)
     spark_density = intake_density * ratio
     pressure = density_equivalent_pressure_bar(spark_density)
     usable = available_kv * (1.0 - reserve_fraction)
@@ -255,6 +271,8 @@ def estimate_spark(*, gap_mm: float, available_kv: float, compression_ratio: flo
         equivalent_pressure_bar=pressure,
         gap_mm=gap_mm,
         demand_kv=voltage_demand_kv(gap_mm, pressure),
+        demand_at_tdc_kv=voltage_demand_kv(
+            gap_mm, density_equivalent_pressure_bar(intake_density * compression_ratio)),
         available_kv=available_kv,
         usable_kv=usable,
         reserve_fraction=reserve_fraction,

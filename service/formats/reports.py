@@ -11,6 +11,8 @@ from pathlib import PurePath
 from typing import Any
 from xml.sax.saxutils import escape, quoteattr
 
+from schemas.results import display_quantity, display_value
+
 Style = Callable[..., str]
 
 VERDICT_COLOURS = {"pass": "green", "warn": "yellow", "fail": "red", "invalid": "magenta"}
@@ -231,6 +233,24 @@ def junit_error_report(source: str, message: str, kind: str, properties: dict[st
 
 # --- one check ------------------------------------------------------------------------------
 
+
+def _geometry_number(value: float, unit: str) -> str:
+    """A geometry bound as the table shows it: inches to a thousandth, mm to four digits."""
+    return f"{value:.3f}" if unit == "in" else f"{value:.4g}"
+
+
+def _torque_guidance(torque: dict[str, Any]) -> str:
+    """The torque block as a sentence: the range (inside itself at the display step), what
+    it is for, and the turn angles with the gasket condition each is for."""
+    low = display_quantity(torque["min"], torque["unit"], 1).split(" ")[0]
+    high = display_quantity(torque["max"], torque["unit"], -1)
+    text = f"{low} to {high} for {torque['lubrication'].replace('_', '-')} threads"
+    if torque.get("turn_angle_deg") is not None:
+        text += f", or {torque['turn_angle_deg']:g} deg {torque['turn_angle_note']}"
+        if torque.get("reused_gasket_turn_angle_deg") is not None:
+            text += f" ({torque['reused_gasket_turn_angle_deg']:g} deg with a re-used gasket)"
+    return f"{text} ({torque['source']})"
+
 _GEOMETRY_LABELS = {"thread_protrusion": "thread protrusion", "thread_recess": "thread recess (long side)",
                     "tip_position": "tip position", "piston_margin": "piston margin", "valve_margin": "valve margin"}
 
@@ -252,17 +272,16 @@ def result_text(document: dict[str, Any], style: Style = plain) -> str:
         out.append(f"Geometry ({unit}; along the plug axis, positive into the chamber)")
         out.append(f"  {'':<26}{'nominal':>9}{'min':>9}{'max':>9}{'rss_min':>9}{'rss_max':>9}")
         for name, entry in geometry.items():
-            numbers = "".join(f"{entry[key]:>9.4g}" for key in ("nominal", "min", "max", "rss_min", "rss_max"))
+            numbers = "".join(f"{_geometry_number(entry[key], unit):>9}"
+                              for key in ("nominal", "min", "max", "rss_min", "rss_max"))
             out.append(f"  {_GEOMETRY_LABELS.get(name, name):<26}{numbers}")
         out.append("")
     for check, quantities in (document.get("analysis") or {}).items():
-        shown = ", ".join(f"{name} {q['value']:g} {q['unit']}".rstrip() for name, q in quantities.items())
+        shown = ", ".join(f"{name} {display_value(name, q)}" for name, q in quantities.items())
         out.append(f"Analysis, {check}: {shown}")
     torque = document.get("torque")
     if torque:
-        turn = f", or {torque['turn_angle_deg']:g} deg past finger-tight" if torque.get("turn_angle_deg") else ""
-        out.append(f"Torque guidance: {torque['min']:g} to {torque['max']:g} {torque['unit']}{turn} "
-                   f"({torque['source']})")
+        out.append(f"Torque guidance: {_torque_guidance(torque)}")
     if document.get("assumptions"):
         out += ["", "Assumptions", *(f"  - {text}" for text in document["assumptions"])]
     if document.get("cautions"):

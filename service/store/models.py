@@ -143,7 +143,9 @@ class Head(Timestamped, Base):
     boot_range_max_plus_mm: Mapped[float | None] = _length()
     boot_range_max_minus_mm: Mapped[float | None] = _length()
     compression_ratio: Mapped[float | None] = mapped_column(Float)
-    intake_pressure_bar: Mapped[float | None] = mapped_column(Float)
+    intake_pressure_bar: Mapped[float | None] = mapped_column(Float)  # absolute
+    boost_pressure_bar: Mapped[float | None] = mapped_column(Float)  # gauge
+    forced_induction: Mapped[bool | None] = mapped_column(Boolean)
     intake_temperature_k: Mapped[float | None] = mapped_column(Float)
     peak_pressure_bar: Mapped[float | None] = mapped_column(Float)
     ignition_voltage_kv: Mapped[float | None] = mapped_column(Float)

@@ -142,6 +142,7 @@ HEADS: RecordMapping[Head] = RecordMapping(
              ("nonstandard_thread", "nonstandard_thread"), ("seat", "seat"), ("well_bore", "well_bore_mm"),
              ("hex", "hex_mm"), ("resistor_required", "resistor_required"), ("material", "material"),
              ("compression_ratio", "compression_ratio"), ("intake_pressure", "intake_pressure_bar"),
+             ("boost_pressure", "boost_pressure_bar"), ("forced_induction", "forced_induction"),
              ("intake_temperature", "intake_temperature_k"), ("peak_pressure", "peak_pressure_bar"),
              ("ignition_voltage", "ignition_voltage_kv"), ("bore", "bore_mm"), ("stroke", "stroke_mm"),
              ("rod_length", "rod_length_mm"), ("spark_advance", "spark_advance_deg")),

@@ -60,11 +60,13 @@ FIT_RESULT = {
         "piston_margin": {"nominal": 4.0, "min": 4.0, "max": 4.0, "rss_min": 4.0, "rss_max": 4.0, "unit": "mm"},
     },
     "analysis": {"thread_strength": {"safety_factor": {"value": 7.3774, "unit": ""}}},
-    "torque": {"min": 25.0, "max": 30.0, "unit": "N*m", "turn_angle_deg": 180.0, "source": "common practice"},
+    "torque": {"min": 25.0, "max": 30.0, "unit": "N*m", "lubrication": "dry", "turn_angle_deg": 180.0,
+               "turn_angle_note": "after finger-tight, with a new gasket", "reused_gasket_turn_angle_deg": 30.0,
+               "source": "torque: common torque guidance (common practice)"},
     "assumptions": ["min_clearance not given: 1.5 mm used (common practice (about 0.060 in), from memory)"],
     "cautions": [("Torque, clearance and gap values are guidance: the engine maker's service data, "
                  "local regulations and licensed practice come first.")],
-    "engine_version": "1.0.0",
+    "engine_version": "1.1.0",
     "catalog_version": "fbcb0fa264fd",
 }
 

@@ -105,3 +105,53 @@ def test_when_reads_need_a_key_a_check_without_one_is_a_401(database_url, api_ke
         assert allowed.status_code == 200
     finally:
         db.get_database(app).engine.dispose()
+
+
+# --- pressures: absolute or gauge, never both ---------------------------------------------------
+
+BOOSTED_HEAD = {**FLUSH_HEAD, "compression_ratio": 9.5, "ignition_voltage": 45}
+GAP_PLUG = {**FLUSH_PLUG, "gap": 1.0}
+
+
+def test_giving_both_the_absolute_and_the_gauge_pressure_is_refused(client):
+    head = {**BOOSTED_HEAD, "intake_pressure": "2.5 bar", "boost_pressure": "1.5 bar"}
+    errors = problem(check(client, {"plug": GAP_PLUG, "head": head}), 422)["errors"]
+    (message,) = errors["head"]["boost_pressure"]
+    assert "intake_pressure (absolute)" in message and "boost_pressure (gauge)" in message
+
+
+@pytest.mark.parametrize(("field", "value", "hint"), [
+    ("intake_pressure", "15 psig", "boost_pressure"), ("intake_pressure", "1.5 bar gauge", "boost_pressure"),
+    ("boost_pressure", "2.5 bara", "intake_pressure"), ("peak_pressure", "60 barg", "atmosphere")])
+def test_a_pressure_marked_as_the_other_kind_is_refused_naming_the_field_to_use(client, field, value, hint):
+    errors = problem(check(client, {"plug": GAP_PLUG, "head": {**BOOSTED_HEAD, field: value}}), 422)["errors"]
+    (message,) = errors["head"][field]
+    assert hint in message and ("absolute" in message or "gauge" in message)
+
+
+def test_a_head_without_forced_induction_cannot_have_boost(client):
+    head = {**BOOSTED_HEAD, "forced_induction": False, "boost_pressure": 0.5}
+    assert "boost_pressure" in problem(check(client, {"plug": GAP_PLUG, "head": head}), 422)["errors"]["head"]
+
+
+def test_a_stored_boosted_head_without_a_pressure_leaves_the_gap_not_checked(client, auth):
+    head = {**BOOSTED_HEAD, "head_id": "H-BOOST", "forced_induction": True}
+    assert client.post("/v1/heads", json=head, headers=auth).status_code == 201
+    stored = client.get("/v1/heads/H-BOOST").get_json()
+    assert stored["forced_induction"] is True and stored.get("boost_pressure") is None
+    document = check(client, {"plug": GAP_PLUG, "head": {"head_id": "H-BOOST"}}).get_json()
+    (skipped,) = [f for f in document["findings"] if f["code"] == "NOT_CHECKED" and f["check"] == "gap_voltage"]
+    assert "forced_induction" in skipped["message"]
+    boosted = client.put("/v1/heads/H-BOOST", json={**head, "boost_pressure": "15 psi"}, headers=auth)
+    assert boosted.status_code == 200
+    # 15 psi = 1.034214 bar (NIST SP 811), read as gauge and kept in bar (answered to 5 digits)
+    assert boosted.get_json()["boost_pressure"] == {"value": pytest.approx(1.034214, abs=1e-5), "unit": "bar"}
+
+
+def test_an_imperial_answer_says_its_intake_pressure_is_absolute(client):
+    head = {**BOOSTED_HEAD, "boost_pressure": "15 psi", "ignition_voltage": 30}
+    document = check(client, {"plug": GAP_PLUG, "head": head}, "?units=imperial").get_json()
+    (margin,) = [f for f in document["findings"] if f["code"] == "GAP_VOLTAGE_MARGIN"]
+    # 1.01325 bar + 15 psi = 29.696 psi absolute (NIST SP 811: 1 psi = 6.894 757 kPa)
+    assert "29.7 psi absolute" in margin["message"]
+    assert document["analysis"]["gap_voltage"]["intake_pressure"]["unit"] == "psi"

@@ -178,3 +178,17 @@ def test_the_documented_examples_are_valid_requests_and_answers():
     FitCheckRequestSchema().load(examples.FIT_CHECK_INLINE)
     FitCheckRequestSchema().load(examples.FIT_CHECK_BY_REFERENCE)
     assert FitResultSchema().validate(examples.FIT_RESULT) == {}
+
+
+def test_every_pressure_says_whether_it_is_absolute_or_gauge(spec):
+    # issue 13: "15 psi" of boost was read as absolute; each pressure field now says which it is
+    schemas = spec["components"]["schemas"]
+    pressures = [(name, field, body) for name, schema in schemas.items()
+                 for field, body in schema.get("properties", {}).items() if field.endswith("_pressure")]
+    assert {field for _, field, _ in pressures} >= {"intake_pressure", "boost_pressure", "peak_pressure"}
+    for name, field, body in pressures:
+        description = body.get("description", "")
+        assert "absolute" in description or "gauge" in description, (name, field, description)
+    forced = [body for schema in schemas.values() for field, body in schema.get("properties", {}).items()
+              if field == "forced_induction"]
+    assert forced and all("absolute" in body["description"] and "gauge" in body["description"] for body in forced)

@@ -46,6 +46,27 @@ def test_the_models_match_the_newest_migration(database_url):
         engine.dispose()
 
 
+def test_the_heads_generation_triggers_survive_a_downgrade_below_the_boost_columns(empty_database_url):
+    """Migration 0005 adds columns to heads. On SQLite a batch drop of them would copy the
+    table and lose 0004's generation triggers, so after a downgrade to 0004 the parts
+    counter would serve stale heads (and 0004's own downgrade would fail)."""
+    url = empty_database_url
+    db.upgrade(url)
+    db.downgrade(url, "0004")
+    engine = db.make_engine(url)
+    try:
+        with engine.begin() as connection:
+            generation = "SELECT generation FROM table_generations WHERE name = 'heads'"
+            before = connection.execute(text(generation)).scalar()
+            connection.execute(text("INSERT INTO heads (head_id, thread, seat, nonstandard_thread, version, "
+                                    "created_at, updated_at) VALUES ('H-TRIGGER', 'M14x1.25', 'flat', false, 1, "
+                                    "CURRENT_TIMESTAMP, CURRENT_TIMESTAMP)"))
+            after = connection.execute(text(generation)).scalar()
+    finally:
+        engine.dispose()
+    assert after > before
+
+
 def test_plugs_are_indexed_on_thread_and_seat_for_the_fitting_search(database_url):
     engine = db.make_engine(database_url)
     try:

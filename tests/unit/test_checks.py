@@ -1,7 +1,7 @@
 """The non-geometric checks, NOT_CHECKED and `require`, and the verdict rule.
 
-Socket outside diameters come from seed_catalog/hexes.csv (across-corners, exact
-geometry, plus 2 x 2.0 mm thin wall, common practice); torque ranges from
+Socket outside diameters come from seed_catalog/hexes.csv (across-corners of the hex's
+form, exact geometry, plus 2 x 2.0 mm thin wall, common practice); torque ranges from
 seed_catalog/torques.csv (common practice, reference-values.md).
 """
 from __future__ import annotations
@@ -32,7 +32,7 @@ def test_a_16_mm_socket_does_not_pass_a_22_mm_well(check):
 
 
 def test_a_14_mm_socket_passes_the_same_well(check):
-    """14 mm across flats -> 16.166 + 4.0 = 20.166 mm, inside 22.0 mm."""
+    """14 mm across flats, twelve-point -> 14 / cos 15° = 14.494 + 4.0 = 18.494 mm, inside 22.0 mm."""
     result = check(dict(FLUSH_PLUG, hex=14), dict(FLUSH_HEAD, well_bore=22.0))
     assert by_code(result, "TOOL_CLEARANCE") == []
     assert "tool_clearance" not in not_checked(result)

@@ -52,7 +52,7 @@ def test_imperial_assumptions_state_their_figures_in_inches_and_psi_and_quote_so
     joined = " ".join(assumptions)
     assert "M14x1.25, 0.059 in, is assumed" in joined
     assert "flush_tolerance not given: 0.020 in used" in joined
-    assert "intake_pressure not given: 14.7 psi" in joined
+    assert "forced_induction not given: 14.7 psi absolute" in joined
     assert "gasket 1.5 mm: common practice" in joined  # the source, as published
     assert result_document(result, "metric")["assumptions"] == list(result.assumptions)
 

@@ -7,10 +7,13 @@ Sources (graded as in ../shared/product/reference-values.md (beside the reposito
   Voltage Engineering, from memory).
 - Uniform-field air: Kuffel, Zaengl & Kuffel, High Voltage Engineering: Fundamentals,
   2nd ed. (from memory): about 3 MV/m for centimetre gaps at 1 atm.
-- Engine figures: 0.6 mm gap 2–3 kV at 1 bar, around 8 kV at compression ratio 8 (an
-  automotive electrical textbook's ignition chapter, published abstract).
+- Engine figures: 0.6 mm gap 2–3 kV at 1 bar, around 8 kV at compression ratio 8 in a
+  running engine (an automotive electrical textbook's ignition chapter, published abstract).
+- Full-load spark timing commonly 20–35° before top dead centre (reference-values.md, from
+  memory); the default is 25°.
 - Air densities: CoolProp (a general-purpose property library; test-only dependency).
-- Slider-crank: Heywood, Internal Combustion Engine Fundamentals (1988), eq. 2.6 (from memory).
+- Slider-crank: Heywood, Internal Combustion Engine Fundamentals (1988), eq. 2.6; rod
+  ratios 3–4 for small and medium engines, section 2.2 (both from memory).
 """
 from __future__ import annotations
 
@@ -23,6 +26,8 @@ from hypothesis import strategies as st
 
 from service.fitment.spark import (
     TORR_PER_BAR,
+    TYPICAL_FULL_LOAD_SPARK_ADVANCE_DEG,
+    TYPICAL_ROD_RATIO,
     air_density_kg_m3,
     breakdown_kv,
     cylinder_volume_ratio,
@@ -32,6 +37,7 @@ from service.fitment.spark import (
     paschen_breakdown_kv,
     paschen_crossover_torr_cm,
     paschen_minimum,
+    rod_ratio_of,
     spark_pressure_bar,
     uniform_field_breakdown_kv,
     voltage_demand_kv,
@@ -100,36 +106,59 @@ def test_a_sixth_of_a_millimetre_gap_at_one_bar_needs_the_published_two_to_three
     assert 2.0 <= demand <= 3.3
 
 
-def test_at_compression_ratio_8_the_top_dead_centre_estimate_is_conservative_against_the_published_8_kv():
-    at_tdc = voltage_demand_kv(0.6, spark_pressure_bar(1.0, 293.0, 8.0))
-    # published "around 8 kV" at compression ratio 8 for a running engine. Our default
-    # takes the charge at top dead centre, unthrottled, at 293 K, which is the densest case:
-    # hand-worked pd = 8 × 0.06 = 0.48 bar·cm → 6.72·√0.48 + 24.36 × 0.48 = 16.35 kV. The
-    # stated band: not below the published figure (conservative) and at most about twice it.
-    assert at_tdc == pytest.approx(16.35, abs=0.01)
-    assert 8.0 <= at_tdc <= 17.0
-    # With the spark at 30° before TDC (rod/crank ratio 3.5; common practice) the charge is
-    # only about 5× the intake density and the estimate falls to about 11 kV
-    before_tdc = voltage_demand_kv(0.6, spark_pressure_bar(1.0, 293.0, 8.0, 30.0, 86.0, 150.5))
-    assert 8.0 <= before_tdc <= 12.0
+def test_at_compression_ratio_8_the_default_demand_lies_near_the_published_running_engine_8_kv():
+    """Issue 13, item 4: the demand is taken at a typical full-load spark timing, not at
+    top dead centre, where it reads about twice a running engine's.
+
+    Published figure: "around 8 kV" for a 0.6 mm gap at compression ratio 8 in a running
+    engine (an automotive electrical textbook's ignition chapter, published abstract).
+    Tolerance allowed: not below 8 kV (a lower estimate errs towards a false pass) and at
+    most 60 % above it (12.8 kV), because the default is the most demanding steady state
+    the published figure can stand for: full load (an unthrottled intake) at sea level on a
+    cool day (ISO 2533), and the uniform-field relation leaves out the lowering by hot
+    electrodes and the plug's non-uniform field. The top-dead-centre figure, which warned
+    on mainstream gaps, lies outside that band: more than twice the published one.
+    """
+    defaults = {"intake_pressure_bar": ONE_ATM_BAR, "intake_temperature_k": 288.15}  # ISO 2533 sea level
+    estimate = estimate_spark(gap_mm=0.6, available_kv=30.0, compression_ratio=8.0, **defaults)
+    assert TYPICAL_FULL_LOAD_SPARK_ADVANCE_DEG == 25.0 and TYPICAL_ROD_RATIO == 3.5
+    # hand-worked (Heywood eq. 2.6, R = 3.5, θ = 25°): V/Vc = 1 + 3.5 × (4.5 − 0.906308 − √(12.25 −
+    # 0.178606)) = 1.417554; density ratio 8 / 1.417554 = 5.64352; ρ = 1.225012 × 5.64352 = 6.91339
+    # kg/m³ = 5.81455 bar at 293 K; pd = 0.348873 bar·cm; Vb = 6.72·√pd + 24.36·pd = 12.468 kV
+    assert estimate.density_ratio == pytest.approx(5.64352, abs=1e-5)
+    assert estimate.demand_kv == pytest.approx(12.468, abs=0.001)
+    assert 8.0 <= estimate.demand_kv <= 8.0 * 1.6
+    # the upper bound beside it: at top dead centre pd = 0.6 × 8 × 1.01325 × 293 / 288.15 / 10
+    # = 0.49466 bar·cm → 16.773 kV, more than twice the published figure
+    assert estimate.demand_at_tdc_kv == pytest.approx(16.773, abs=0.001)
+    assert estimate.demand_at_tdc_kv > 2.0 * 8.0
+
+
+def test_the_default_rod_ratio_moves_the_demand_little_at_the_default_timing():
+    # Heywood (from memory): R = 3 to 4; the density ratio at 25° moves by under 2 %
+    low, high = density_ratio_at_spark(8.0, 25.0, 3.0), density_ratio_at_spark(8.0, 25.0, 4.0)
+    assert low < density_ratio_at_spark(8.0, 25.0) < high
+    assert high / low - 1.0 < 0.02
 
 
 def test_the_slider_crank_volume_ratio_runs_from_one_at_tdc_to_the_compression_ratio_at_bdc():
+    rod_ratio = 143.0 / 43.0  # rod 143 mm, stroke 86 mm
     # Heywood eq. 2.6 (from memory): V/Vc = 1 at θ = 0 and rc at θ = 180°
-    assert cylinder_volume_ratio(0.0, 10.0, 86.0, 143.0) == pytest.approx(1.0)
-    assert cylinder_volume_ratio(180.0, 10.0, 86.0, 143.0) == pytest.approx(10.0)
+    assert cylinder_volume_ratio(0.0, 10.0, rod_ratio) == pytest.approx(1.0)
+    assert cylinder_volume_ratio(180.0, 10.0, rod_ratio) == pytest.approx(10.0)
     # hand-worked at 90°, R = 143/43 = 3.32558: 1 + 4.5·(4.32558 − √10.0595) = 1 + 4.5 × 1.15391
     # = 6.1926
-    assert cylinder_volume_ratio(90.0, 10.0, 86.0, 143.0) == pytest.approx(6.1926, abs=1e-4)
+    assert cylinder_volume_ratio(90.0, 10.0, rod_ratio) == pytest.approx(6.1926, abs=1e-4)
+    assert rod_ratio_of(86.0, 143.0) == pytest.approx(rod_ratio)
 
 
-def test_without_spark_timing_the_charge_is_taken_at_top_dead_centre():
-    assert density_ratio_at_spark(9.5) == 9.5
-    assert density_ratio_at_spark(9.5, 25.0, 86.0, 143.0) < 9.5
+def test_at_top_dead_centre_the_charge_is_the_compression_ratio_denser():
+    assert density_ratio_at_spark(9.5, 0.0) == pytest.approx(9.5, rel=1e-12)
+    assert density_ratio_at_spark(9.5, 25.0, 143.0 / 43.0) < 9.5
 
 
 def test_the_largest_gap_needs_exactly_the_usable_voltage():
-    estimate = estimate_spark(gap_mm=0.8, available_kv=30.0, compression_ratio=10.0,
+    estimate = estimate_spark(gap_mm=0.8, available_kv=30.0, compression_ratio=10.0, spark_advance_deg=0.0,
                               intake_pressure_bar=ONE_ATM_BAR, intake_temperature_k=288.15)
     # reserve 20 % (common practice): usable 24 kV
     assert estimate.usable_kv == pytest.approx(24.0)
