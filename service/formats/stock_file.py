@@ -13,8 +13,8 @@ repeated here). The rules, in one place:
   tolerances are positive amounts in mm, empty when the length is exact. The value cell
   may also hold a string with units (`0.75 in`);
 - a scalar quantity is one column named with its unit: `hex_mm`, `gap_mm`,
-  `intake_pressure_bar` (absolute), `intake_temperature_k`, `ignition_voltage_kv`,
-  `spark_advance_deg`. Temperatures are in kelvin so a value round-trips exactly (a
+  `intake_pressure_bar` (absolute), `boost_pressure_bar` (gauge), `intake_temperature_k`,
+  `ignition_voltage_kv`, `spark_advance_deg`. Temperatures are in kelvin so a value round-trips exactly (a
   °C column would add and subtract 273.15 on every trip);
 - a nested object is one column per member: `heat_range_scale`, `heat_range_value`,
   `boot_range_min_mm`, ...;

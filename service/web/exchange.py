@@ -159,7 +159,8 @@ class HeadExport(MethodView):
         """Export every head as CSV
 
         Ordered by head_id; lengths as in the plug export, engine conditions in columns
-        named with their unit (`intake_pressure_bar` absolute, `intake_temperature_k`).
+        named with their unit (`intake_pressure_bar` absolute, `boost_pressure_bar` gauge,
+        `intake_temperature_k`).
         `POST /v1/imports/heads` reads it back unchanged.
         """
         return _export("heads")
