@@ -13,7 +13,7 @@ FINDING_CODES: dict[str, tuple[str, str]] = {
     "TOOL_CLEARANCE": ("tool_clearance", "fail"),
     "HEX_DIFFERS": ("hex", "info"),
     "RESISTOR_REQUIRED": ("resistor", "warn"),
-    "TORQUE_OUT_OF_RANGE": ("torque", "warn"),
+    "TORQUE_OUT_OF_RANGE": ("torque", "warn, fail"),
     "THREAD_STRIP_RISK": ("thread_strength", "warn"),
     "GAP_VOLTAGE_MARGIN": ("gap_voltage", "warn"),
     "HEAT_RANGE_OUT_OF_BAND": ("heat_range", "warn"),
