@@ -140,8 +140,15 @@ HEADS: list[dict[str, Any]] = [
      "thread": "M14x1.25", "seat": "flat", "port_depth": tol(17.5, 0.15), "port_depth_long_side": tol(18.3, 0.15),
      "piston_clearance": tol(8.0, 0.3), "valve_clearance": tol(9.0, 0.4), "well_bore": 25.0, "hex": 16.0,
      "resistor_required": True, "material": "aluminium", "compression_ratio": 9.4, "intake_pressure": 2.2,
-     "intake_temperature": "45 degC", "peak_pressure": 120.0, "ignition_voltage": 36.0,
+     "forced_induction": True, "intake_temperature": "45 degC", "peak_pressure": 120.0, "ignition_voltage": 36.0,
      "stroke": 78.5, "rod_length": 129.0, "spark_advance": 17.0,
+     "heat_range_band": band(0.55, 0.75), "boot_range": {"min": 52.0, "max": 58.0}},
+    {"head_id": "DEMO-H-VAN-I4T-REMAP", "description": "Demo engine: the turbocharged van four after a remap, "
+     "boost not yet measured",
+     "thread": "M14x1.25", "seat": "flat", "port_depth": tol(17.5, 0.15), "port_depth_long_side": tol(18.3, 0.15),
+     "piston_clearance": tol(8.0, 0.3), "valve_clearance": tol(9.0, 0.4), "well_bore": 25.0, "hex": 16.0,
+     "resistor_required": True, "material": "aluminium", "compression_ratio": 9.4, "forced_induction": True,
+     "ignition_voltage": 36.0, "stroke": 78.5, "rod_length": 129.0,
      "heat_range_band": band(0.55, 0.75), "boot_range": {"min": 52.0, "max": 58.0}},
     {"head_id": "DEMO-H-TRUCK-I4", "description": "Demo engine: light-truck in-line four, 2.35 L, "
      "long-reach ports",
@@ -205,13 +212,15 @@ HEADS: list[dict[str, Any]] = [
      "pistons and big valves (tight clearances)",
      "thread": "M12x1.25", "seat": "flat", "design_reach": tol(26.5, 0.15), "piston_clearance": tol(4.5, 0.2),
      "valve_clearance": tol(5.0, 0.2), "well_bore": 22.0, "hex": 14.0, "resistor_required": True,
-     "material": "aluminium", "compression_ratio": 9.0, "intake_pressure": 3.2, "intake_temperature": "55 degC",
+     "material": "aluminium", "compression_ratio": 9.0, "intake_pressure": 3.2, "forced_induction": True,
+     "intake_temperature": "55 degC",
      "peak_pressure": 160.0, "ignition_voltage": 45.0, "bore": 82.0, "stroke": 80.5, "rod_length": 137.0,
      "spark_advance": 16.0, "heat_range_band": band(0.75, 0.95), "boot_range": {"min": 60.0, "max": 64.0}},
     {"head_id": "DEMO-H-RACE-ROAD", "description": "Demo engine: the hill-climb four in road trim, mild boost",
      "thread": "M12x1.25", "seat": "flat", "design_reach": tol(26.5, 0.15), "piston_clearance": tol(7.0, 0.3),
      "valve_clearance": tol(7.5, 0.3), "well_bore": 22.0, "hex": 14.0, "resistor_required": True,
-     "material": "aluminium", "compression_ratio": 9.5, "intake_pressure": 1.8, "intake_temperature": "40 degC",
+     "material": "aluminium", "compression_ratio": 9.5, "boost_pressure": "0.8 bar", "forced_induction": True,
+     "intake_temperature": "40 degC",
      "peak_pressure": 110.0, "ignition_voltage": 40.0, "bore": 82.0, "stroke": 80.5, "rod_length": 137.0,
      "spark_advance": 22.0, "heat_range_band": band(0.55, 0.75), "boot_range": {"min": 60.0, "max": 64.0}},
 ]
@@ -305,6 +314,12 @@ class Showcase:
 SHOWCASE = [
     Showcase("DEMO-P-0001", "DEMO-H-VAN-I4", verdict="pass"),
     Showcase("DEMO-P-0001", "DEMO-H-VAN-I4", ("TORQUE_OUT_OF_RANGE",), options={"torque": "45 N*m"}),
+    # The full dry torque with anti-seize: the range is lowered to 15-18 N*m, and 22 lbf*ft is
+    # more than half above it.
+    Showcase("DEMO-P-0001", "DEMO-H-VAN-I4", ("TORQUE_OUT_OF_RANGE",),
+             options={"torque": "22 lbf*ft", "lubrication": "anti_seize"}, verdict="fail"),
+    # A boosted head that gives no pressure: its gap check is not made, never passed at the atmosphere.
+    Showcase("DEMO-P-0001", "DEMO-H-VAN-I4T-REMAP", ("NOT_CHECKED",)),
     Showcase("DEMO-P-0001", "DEMO-H-ENDURO", ("THREAD_MISMATCH",), verdict="fail"),
     Showcase("DEMO-P-0001", "DEMO-H-TRACTOR-I2", ("SEAT_MISMATCH",), verdict="fail"),
     Showcase("DEMO-P-0001", "DEMO-H-UNMEASURED", ("NOT_CHECKED",)),
