@@ -11,9 +11,9 @@ from __future__ import annotations
 
 from typing import Any, Protocol
 
-from schemas.results import quantity_document
 from service.fitment.interchange import Comparison
 from service.fitment.model import FitResult, PlugSpec
+from service.formats.result_json import quantity_document
 
 # The most severe first; a listed plug never has a failing finding.
 _SEVERITY_ORDER = {"fail": 0, "warn": 1, "info": 2}

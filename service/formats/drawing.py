@@ -20,12 +20,12 @@ import textwrap
 from dataclasses import dataclass
 from xml.sax.saxutils import escape, quoteattr
 
-from schemas.results import result_document
 from service.fitment.catalog import Catalog
 from service.fitment.context import FitContext
 from service.fitment.geometry import derive
 from service.fitment.model import Finding, FitResult, Options, PlugSpec, PortSpec
 from service.fitment.stack import Bounds, Stack
+from service.formats.result_json import result_document
 
 MM_PER_INCH = 25.4  # exact (NIST SP 811, 2008, appendix B)
 CONICAL_SEAT_HALF_ANGLE_DEG = 31.5  # 63° included taper (common practice), drawn schematically

@@ -11,7 +11,7 @@ from pathlib import PurePath
 from typing import Any
 from xml.sax.saxutils import escape, quoteattr
 
-from schemas.results import display_quantity, display_value
+from service.formats.result_json import display_quantity, display_value
 
 Style = Callable[..., str]
 

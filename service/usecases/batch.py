@@ -36,11 +36,11 @@ from typing import Any
 from marshmallow import Schema, ValidationError, missing
 
 from schemas.batch import BatchItemSchema
-from schemas.results import result_document
 from service.fitment import verdict_of
 from service.fitment.catalog import Catalog
 from service.fitment.model import FitResult
 from service.formats.build_list import RawItem, errors_by_column
+from service.formats.result_json import result_document
 from service.usecases.fit_check import UnknownReference, run_check
 
 _pause_lock = threading.Lock()

@@ -5,13 +5,14 @@ Plug and head may each be inline or a reference (`sku`, `head_id`), mixed freely
 """
 from __future__ import annotations
 
-from flask import jsonify
+from flask import Response
 from flask.views import MethodView
 
 from schemas.inventory import UnitsQuerySchema
-from schemas.results import FitResultSchema, result_document
+from schemas.results import FitResultSchema
 from schemas.specs import FitCheckRequestSchema
 from service.catalog_loader import load_catalog
+from service.formats.result_json import result_document, to_json
 from service.store import db, repository
 from service.usecases.fit_check import UnknownReference, run_check
 from service.web import auth, examples, problems
@@ -48,4 +49,4 @@ class FitChecks(MethodView):
             problems.abort(404, f"No {unknown.what} {unknown.identifier!r}.", errors=unknown.errors())
         # The fast writer, not a marshmallow dump: FitResultSchema documents this shape and
         # tests load what is sent through it.
-        return jsonify(result_document(result, query["units"]))
+        return Response(to_json(result_document(result, query["units"])), mimetype="application/json")

@@ -14,11 +14,11 @@ from flask.views import MethodView
 
 from schemas.answers import PlugSchema
 from schemas.counter import FULL, FittingPlugSchema, FittingPlugsQuerySchema, InterchangeQuerySchema, InterchangeSchema
-from schemas.results import result_document
 from schemas.specs import options_from
 from service.catalog_loader import load_catalog
 from service.fitment.interchange import THREAD_END_TOLERANCE_MM, TIP_TOLERANCE_MM, Tolerances
 from service.formats.counter_lines import FittingLines, interchange_line
+from service.formats.result_json import result_document
 from service.store import db
 from service.usecases import parts_search
 from service.web import examples, records

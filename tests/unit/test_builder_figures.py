@@ -17,9 +17,9 @@ from __future__ import annotations
 
 import pytest
 
-from schemas.results import result_document
 from service.fitment.defaults import ANTI_SEIZE_CAUTION
 from service.formats.reports import result_text
+from service.formats.result_json import result_document
 
 M14_FLAT_PLUG = {"thread": "M14x1.25", "seat": "flat", "reach": 19.0, "gasket_thickness": 1.5, "firing_end": 4.0}
 M14_ALUMINIUM_HEAD = {"thread": "M14x1.25", "seat": "flat", "port_depth": 17.5, "material": "aluminium"}

@@ -24,9 +24,9 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from schemas.results import result_document
 from schemas.specs import FitCheckRequestSchema, plug_spec, port_spec
 from service.formats.drawing import render_fit_svg
+from service.formats.result_json import result_document
 
 M14_FLAT_PLUG = {"thread": "M14x1.25", "seat": "flat", "reach": 12.7, "gasket_thickness": 1.5}
 M14_FLAT_HEAD = {"thread": "M14x1.25", "seat": "flat", "port_depth": 11.2, "material": "aluminium",

@@ -16,10 +16,10 @@ from pathlib import Path
 
 import pytest
 
-from schemas.results import result_document
 from service.catalog_loader import load_catalog
 from service.fitment import check_fit
 from service.fitment.model import Dim, FitResult, HeatRange, HeatRangeBand, Options, PlugSpec, PortSpec, Span
+from service.formats.result_json import result_document
 
 GOLDEN = Path(__file__).parent / "fixtures" / "engine_golden.json"
 

@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import pytest
 
-from schemas.results import FitResultSchema, render_message, result_document
+from schemas.results import FitResultSchema
+from service.formats.result_json import render_message, result_document
 
 from .test_fit_geometry import FLUSH_HEAD, FLUSH_PLUG
 
