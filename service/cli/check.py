@@ -85,7 +85,7 @@ def command(request_file: str | None, output_format: str, units: str, fail_on: s
     from service.cli.lookup import UnusableInput, load_request_file, references_from
     from service.formats.build_list import BuildListError, RawItem, item_from_cells
     from service.formats.reports import error_lines, failing_verdicts, result_text
-    from service.usecases.batch import check_items, load_items, references
+    from service.usecases.batch import check_items, load_items, resolve_references
 
     cells = _cells(values)
     if "require" in cells:
@@ -99,13 +99,10 @@ def command(request_file: str | None, output_format: str, units: str, fail_on: s
             raw = item_from_cells(cells)
         else:
             raise click.UsageError("describe the plug and the head: see plugfit check --help")
+        fetch = references_from([Path(p) for p in inventory],
+                                warn=lambda message: click.echo(f"plugfit: warning: {message}", err=True))
+        plugs, heads = resolve_references([raw], fetch)
         items = load_items([raw])
-        skus, head_ids = references(items)
-        plugs, heads = ({}, {})
-        if skus or head_ids:
-            fetch = references_from([Path(p) for p in inventory],
-                                    warn=lambda message: click.echo(f"plugfit: warning: {message}", err=True))
-            plugs, heads = fetch(skus, head_ids)
     except (UnusableInput, BuildListError) as error:
         fail(str(error), EXIT_UNUSABLE)
     result = check_items(items, load_catalog(), plugs, heads, units).results[0]

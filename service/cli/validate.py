@@ -111,8 +111,7 @@ def _is_csv(source: str, text: str) -> bool:
     return not looks_like_json(text)
 
 
-def _embedded(data: bytes, source: str, units: str, require: list[str], inventory: tuple[str, ...],
-              json_only: bool = False) -> Any:
+def _embedded(data: bytes, source: str, units: str, require: list[str], inventory: tuple[str, ...]) -> Any:
     from service.catalog_loader import load_catalog
     from service.cli.lookup import UnusableInput, references_from
     from service.formats.build_list import BuildListError, decode, read_build_list
@@ -128,8 +127,7 @@ def _embedded(data: bytes, source: str, units: str, require: list[str], inventor
                      + "\n  ".join([""] + [str(p) for p in error.problems]), EXIT_UNUSABLE)
     except UnusableInput as error:
         cannot_check(str(error), EXIT_UNUSABLE)
-    return run_batch(raw_items, load_catalog(), fetch, units=units, require=require, split=True,
-                     json_only=json_only)
+    return run_batch(raw_items, load_catalog(), fetch, units=units, require=require)
 
 
 def _remote(data: bytes, source: str, server: str, api_key: str | None, units: str, require: list[str],
@@ -195,37 +193,26 @@ def _validate(build_list: str, server: str | None, api_key: str | None, output_f
 
     if server:
         answer = _remote(data, source, server, api_key, units, require, timeout)
-        _print(answer, None, source, output_format, fail_on, units, server)
+        _print(answer, source, output_format, fail_on, units, server)
         sys.exit(exit_code(answer, fail_on))
-    from service.usecases.batch import collector_paused
-
-    with collector_paused():  # a third of the time on long lists: see collector_paused
-        if output_format == "json":
-            # Only the JSON is printed, and the summary's counts decide the exit code:
-            # a helper process that checks half a long list then sends JSON alone.
-            batch = _embedded(data, source, units, require, inventory, json_only=True)
-            _print({}, batch.to_json(), source, output_format, fail_on, units, server)
-            code = summary_exit_code(batch.summary, fail_on)
-            del batch  # freed while the collector is paused (see service.web.fit_check_batch)
-        else:
-            answer = _embedded(data, source, units, require, inventory).as_dict()
-            _print(answer, None, source, output_format, fail_on, units, server)
-            code = exit_code(answer, fail_on)
-            del answer
-    sys.exit(code)
+    batch = _embedded(data, source, units, require, inventory)
+    if output_format == "json":  # written as it is: no need to read the results back
+        click.echo(batch.to_json())
+        sys.exit(summary_exit_code(batch.summary, fail_on))
+    answer = batch.as_dict()
+    _print(answer, source, output_format, fail_on, units, server)
+    sys.exit(exit_code(answer, fail_on))
 
 
-def _print(answer: dict[str, Any], answer_json: str | None, source: str, output_format: str, fail_on: str,
-           units: str, server: str | None) -> None:
-    import json
-
+def _print(answer: dict[str, Any], source: str, output_format: str, fail_on: str, units: str,
+           server: str | None) -> None:
     from service.formats import reports
+    from service.formats.result_json import to_json
 
     # json and junit hold no colour codes: color=True spares click a pass over megabytes
     # of text looking for them; the table is coloured only on a terminal.
     if output_format == "json":
-        click.echo(answer_json if answer_json is not None else json.dumps(answer, separators=(",", ":")),
-                   color=True)
+        click.echo(to_json(answer))
     elif output_format == "junit":
         checked = next((r for r in answer["results"] if "engine_version" in r), {})
         properties = {"mode": f"server {server}" if server else "embedded", "fail_on": fail_on, "units": units,

@@ -7,7 +7,9 @@ through that schema). It is plain Python rather than a marshmallow dump, and JSO
 written by orjson rather than the standard library, because a build list of 10,000
 lines must be written in milliseconds (benchmarks/bench_batch.py).
 
-JSON comes out as UTF-8 bytes.
+JSON comes out as compact UTF-8 bytes. A batch answer is put together from the JSON of
+its items (`batch_item_json`, `batch_answer_json`), so a result document shared by many
+lines is written once.
 """
 from __future__ import annotations
 
@@ -238,3 +240,20 @@ def to_json(document: Any, *, indented: bool = False) -> bytes:
     strings, as the standard library writes them."""
     option = orjson.OPT_NON_STR_KEYS | (orjson.OPT_INDENT_2 if indented else 0)
     return orjson.dumps(document, option=option)
+
+
+def from_json(text: bytes | str) -> Any:
+    return orjson.loads(text)
+
+
+def batch_item_json(own: dict[str, Any], document_json: bytes) -> bytes:
+    """One checked line of a batch answer: the line's own members (`ref`, and `line` for
+    CSV), then those of its result document (`document_json`, as `to_json` wrote it):
+    `{**own, **document}` as JSON, with the document written once for all the lines
+    that share it."""
+    return to_json(own)[:-1] + b"," + document_json[1:]
+
+
+def batch_answer_json(summary: dict[str, Any], results: list[bytes]) -> bytes:
+    """The batch answer `{"summary": ..., "results": [...]}` from its items' JSON."""
+    return b"".join((b'{"summary":', to_json(summary), b',"results":[', b",".join(results), b"]}"))

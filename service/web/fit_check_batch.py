@@ -26,7 +26,7 @@ from service.formats.build_list import (
 )
 from service.store import db
 from service.store.repository import fetch_documents
-from service.usecases.batch import collector_paused, run_batch
+from service.usecases.batch import run_batch
 from service.web import auth, problems
 from service.web.smorest import Blueprint
 
@@ -123,14 +123,9 @@ class FitCheckBatch(MethodView):
         clearance and gap figures are guidance: the engine maker's service data, local
         regulations and licensed practice come first.
         """
-        with collector_paused():
-            raw_items = _read_body(current_app.config["MAX_BATCH_ITEMS"])
-            answer = run_batch(raw_items, load_catalog(), fetch_references, units=query["units"],
-                               require=query["require"], split=True, json_only=True)
-            # Serialised directly: BatchResponseSchema documents this shape (a test loads
-            # the answer through it); a marshmallow dump of 10,000 results takes seconds.
-            body = answer.to_json()
-            # Freed while the collector is still paused: left to the function's end,
-            # the collector's first pass after the pause would walk all of it first.
-            del raw_items, answer
-        return Response(body, mimetype="application/json")
+        raw_items = _read_body(current_app.config["MAX_BATCH_ITEMS"])
+        answer = run_batch(raw_items, load_catalog(), fetch_references, units=query["units"],
+                           require=query["require"])
+        # Written as JSON directly: BatchResponseSchema documents this shape (a test loads
+        # the answer through it); a marshmallow dump of 10,000 results takes seconds.
+        return Response(answer.to_json(), mimetype="application/json")

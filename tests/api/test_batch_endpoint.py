@@ -171,25 +171,3 @@ def test_the_openapi_document_shows_the_json_and_csv_bodies_and_the_answer(clien
     assert {"ref", "plug", "head", "options", "waive"} <= set(spec["components"]["schemas"]["BatchItem"]["properties"])
     example = operation["responses"]["200"]["content"]["application/json"]["example"]
     assert BatchResponseSchema().validate(example) == {}
-
-
-def test_a_list_split_over_two_processes_answers_exactly_as_one_checked_in_one(client, monkeypatch):
-    from service.usecases import batch
-
-    # Reaches of 0.74803 in (19.0 mm, the contract's flush fit; 1 in = 25.4 mm, NIST SP
-    # 811, B.8), 0.75 in (19.05 mm) and "abc" (no length): every third line is invalid.
-    rows = "".join(f"line-{n},M14x1.25,flat,{('0.74803', '0.75', 'abc')[n % 3]},1.5,4,M14x1.25,flat,17.5,{8 + n % 5}\n"
-                   for n in range(90))
-    monkeypatch.setattr(batch, "helpers_available", lambda: False)
-    whole = post_csv(client, CSV_HEADER + rows)
-    monkeypatch.setattr(batch, "helpers_available", lambda: True)
-    monkeypatch.setattr(batch, "MIN_ITEMS_TO_SPLIT", 40)
-    monkeypatch.setattr(batch, "_mostly_distinct", lambda raw_items: True)
-    forks = []
-    fork = batch.os.fork
-    monkeypatch.setattr(batch.os, "fork", lambda: forks.append(1) or fork())
-    split = post_csv(client, CSV_HEADER + rows)
-    assert forks == [1]
-    assert split.status_code == whole.status_code == 200
-    assert split.get_json() == whole.get_json()
-    assert split.get_json()["summary"]["invalid"] == 30

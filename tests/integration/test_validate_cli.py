@@ -237,31 +237,6 @@ def test_plugfit_check_reads_a_request_file_and_resolves_references_from_an_inve
     assert nothing.returncode == 2
 
 
-def test_a_long_list_checked_by_the_installed_command_over_two_processes_reads_as_in_one(runner, tmp_path,
-                                                                                           monkeypatch):
-    """2,400 lines: long enough for `plugfit validate` to check half in a helper process
-    (service.usecases.batch.MIN_ITEMS_TO_SPLIT); its JSON must equal a run in one process."""
-    from service.formats.build_list import read_csv
-    from service.usecases import batch
-
-    assert batch.MIN_ITEMS_TO_SPLIT <= 2400
-    # FLUSH, LONG_ROOMY and HITS_PISTON with every plug and head a few micrometres
-    # apart (distinct lines are what is split); the verdicts stay those of the three.
-    rows = "".join(f"flush-{n},M14,flat,{19 + n / 1e5:.5f},1.5,4,M14,flat,{17.5 + n / 1e5:.5f},8,\n"
-                   f"long-{n},M14,flat,{26.5 + n / 1e5:.5f},1.5,4,M14,flat,17.5,{20 + n / 1e5:.5f},\n"
-                   f"hits-{n},M14,flat,{26.5 - n / 1e5:.5f},1.5,4,M14,flat,17.5,{8 - n / 1e5:.5f},\n"
-                   for n in range(800))
-    path = write(tmp_path, HEADER + rows)
-    assert batch._mostly_distinct(read_csv(HEADER + rows))
-    done = run("validate", path, "--format", "json")
-    monkeypatch.setattr(batch, "helpers_available", lambda: False)
-    in_one = runner.invoke("validate", path, "--format", "json")
-    assert done.returncode == in_one.exit_code == 1  # 800 lines hit the piston
-    assert json.loads(done.stdout) == json.loads(in_one.output)
-    assert json.loads(done.stdout)["summary"] == {"total": 2400, "pass": 800, "warn": 800, "fail": 800,
-                                                  "invalid": 0, "verdict": "fail"}
-
-
 # --- JUnit on every exit: a CI step saves standard output as its report -----------------------
 
 
