@@ -18,7 +18,7 @@ from typing import Any
 
 import click
 
-from service.cli.validate import EXIT_UNUSABLE, fail, parse_checks
+from service.cli.common import EXIT_UNUSABLE, fail, parse_checks
 from service.formats.build_list import FieldSpec, field_specs
 
 
@@ -99,9 +99,7 @@ def command(request_file: str | None, output_format: str, units: str, fail_on: s
             raw = item_from_cells(cells)
         else:
             raise click.UsageError("describe the plug and the head: see plugfit check --help")
-        fetch = references_from([Path(p) for p in inventory],
-                                warn=lambda message: click.echo(f"plugfit: warning: {message}", err=True))
-        plugs, heads = resolve_references([raw], fetch)
+        plugs, heads = resolve_references([raw], references_from(inventory))
         items = load_items([raw])
     except (UnusableInput, BuildListError) as error:
         fail(str(error), EXIT_UNUSABLE)
@@ -116,9 +114,9 @@ def command(request_file: str | None, output_format: str, units: str, fail_on: s
         Path(svg_file).write_text(drawing, encoding="utf-8")
     document = {key: value for key, value in result.items() if key not in ("ref", "line", "waivers")}
     if output_format == "json":
-        import json
+        from service.formats.result_json import to_json
 
-        click.echo(json.dumps(document, indent=2))
+        click.echo(to_json(document, indented=True))
     else:
         click.echo(result_text(document, style=click.style), nl=False)
     sys.exit(1 if document["verdict"] in failing_verdicts(fail_on) else 0)

@@ -1,12 +1,47 @@
-"""What every `plugfit` command shares: the app, built once per invocation, on use."""
+"""What the `plugfit` commands share: the app, built once per invocation, on use; exit
+codes and the way a command gives up; check names as an option.
+
+Imports neither Flask nor the schemas at import time, so `plugfit validate` and
+`plugfit check` start without them.
+"""
 from __future__ import annotations
 
+import sys
 from collections.abc import Callable
 from functools import update_wrapper
-from typing import Any
+from typing import TYPE_CHECKING, Any, NoReturn
 
 import click
-from flask import Flask
+
+if TYPE_CHECKING:
+    from flask import Flask
+
+# What `plugfit validate` and `plugfit check` exit with (CI relies on them):
+EXIT_OK = 0  # no line fails (check: the plug fits)
+EXIT_LINES_FAIL = 1  # a line fails (or warns, with --fail-on warn) or cannot be read
+EXIT_UNUSABLE = 2  # the file or request as a whole is unusable, or the command line is wrong
+EXIT_UNREACHABLE = 3  # the server cannot be reached (validate --server)
+
+
+def fail(message: str, code: int) -> NoReturn:
+    """Say why on standard error and exit with `code`."""
+    click.echo(f"plugfit: {message}", err=True)
+    sys.exit(code)
+
+
+def warn(message: str) -> None:
+    click.echo(f"plugfit: warning: {message}", err=True)
+
+
+def parse_checks(ctx: click.Context | None, param: click.Parameter | None, value: str | None) -> list[str]:
+    """`piston,valve` as a list of check names; unknown names are a usage error (exit 2)."""
+    from service.fitment.checks import CHECK_NAMES
+
+    names = [part.strip() for part in (value or "").replace(";", ",").split(",") if part.strip()]
+    unknown = [name for name in names if name not in CHECK_NAMES]
+    if unknown:
+        raise click.BadParameter(f"unknown check(s) {', '.join(unknown)}; the checks are {', '.join(CHECK_NAMES)}")
+    return names
 
 
 class CliState:

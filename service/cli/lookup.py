@@ -18,10 +18,11 @@ Either way the lookups happen once per run with every distinct identifier (see
 from __future__ import annotations
 
 import json
-from collections.abc import Callable
+from collections.abc import Callable, Iterable
 from pathlib import Path
 from typing import Any
 
+from service.cli import common
 from service.usecases.batch import FetchReferences
 
 Warn = Callable[[str], None]
@@ -166,8 +167,11 @@ def database_fetcher(warn: Warn) -> FetchReferences:
     return fetch
 
 
-def references_from(inventory: list[Path], warn: Warn) -> FetchReferences:
-    return inventory_fetcher(inventory) if inventory else database_fetcher(warn)
+def references_from(inventory: Iterable[str], warn: Warn = common.warn) -> FetchReferences:
+    """The look-up for `--inventory FILE ...` (the paths as given), or the local database
+    when there are none."""
+    paths = [Path(path) for path in inventory]
+    return inventory_fetcher(paths) if paths else database_fetcher(warn)
 
 
 def load_request_file(path: Path) -> Any:

@@ -1,7 +1,8 @@
 """`plugfit validate BUILD_LIST`: check a whole build list, for people and for CI.
 
 Embedded by default (the engine and the seeded catalogue in this process, no server),
-or `--server URL` to have a running service check it. Exit codes, which CI relies on:
+or `--server URL` to have a running service check it. Exit codes, which CI relies on
+(`service.cli.common`):
 
     0  no line fails
     1  a line fails (or warns, with --fail-on warn) or cannot be read
@@ -21,18 +22,7 @@ from typing import Any
 
 import click
 
-EXIT_OK, EXIT_LINES_FAIL, EXIT_UNUSABLE, EXIT_UNREACHABLE = 0, 1, 2, 3
-
-
-def parse_checks(ctx: click.Context | None, param: click.Parameter | None, value: str | None) -> list[str]:
-    """`piston,valve` as a list of check names; unknown names are a usage error (exit 2)."""
-    from service.fitment.checks import CHECK_NAMES
-
-    names = [part.strip() for part in (value or "").replace(";", ",").split(",") if part.strip()]
-    unknown = [name for name in names if name not in CHECK_NAMES]
-    if unknown:
-        raise click.BadParameter(f"unknown check(s) {', '.join(unknown)}; the checks are {', '.join(CHECK_NAMES)}")
-    return names
+from service.cli.common import EXIT_UNREACHABLE, EXIT_UNUSABLE, parse_checks
 
 
 class CannotCheck(Exception):
@@ -41,12 +31,6 @@ class CannotCheck(Exception):
     def __init__(self, message: str, code: int, kind: str) -> None:
         super().__init__(message)
         self.message, self.code, self.kind = message, code, kind
-
-
-def fail(message: str, code: int) -> None:
-    """Say why on standard error and exit with `code` (for `plugfit check`)."""
-    click.echo(f"plugfit: {message}", err=True)
-    sys.exit(code)
 
 
 def cannot_check(message: str, code: int) -> None:
@@ -120,8 +104,7 @@ def _embedded(data: bytes, source: str, units: str, require: list[str], inventor
     try:
         text = decode(data)
         raw_items = read_build_list(text, csv_format=_is_csv(source, text))
-        fetch = references_from([Path(path) for path in inventory],
-                                warn=lambda message: click.echo(f"plugfit: warning: {message}", err=True))
+        fetch = references_from(inventory)
     except BuildListError as error:
         cannot_check(f"{source}: the build list cannot be used: "
                      + "\n  ".join([""] + [str(p) for p in error.problems]), EXIT_UNUSABLE)
