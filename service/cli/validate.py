@@ -12,17 +12,45 @@ or `--server URL` to have a running service check it. Exit codes, which CI relie
 With `--format junit` every exit writes a report, 2 and 3 included (one test case in
 error carrying the reason), so a CI step that saves standard output as its JUnit file
 always hands its report reader a valid file.
+
+An embedded run may share a long list out over several processes (`--jobs`, default
+one per core): the list is cut into consecutive parts, each checked by
+`service.usecases.batch.check_list` in a process of a `ProcessPoolExecutor`, and the
+answers joined in order, so the output is the same whatever the number of jobs. Only
+the command line does this; the web service checks a list in the worker that received
+it and gets its throughput from more workers.
 """
 from __future__ import annotations
 
+import os
 import sys
+import time
+from collections.abc import Callable, Iterator, Mapping
+from contextlib import contextmanager
 from itertools import pairwise
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any, TextIO
 
 import click
 
 from service.cli.common import EXIT_UNREACHABLE, EXIT_UNUSABLE, parse_checks
+
+if TYPE_CHECKING:
+    from service.formats.build_list import RawItem
+    from service.usecases.batch import BatchAnswer, Progress
+
+# Below this many lines a list is checked in this process whatever --jobs says:
+# starting processes and sending them their parts would cost more than it saves.
+MIN_LINES_TO_SHARE = 2_000
+PARTS_PER_JOB = 4  # the list is cut into jobs x this parts, so the progress bar moves
+PROGRESS_AFTER_S = 1.0  # a list checked sooner than this shows no progress bar
+
+
+def default_jobs() -> int:
+    """One job per core this process may run on."""
+    if hasattr(os, "sched_getaffinity"):
+        return len(os.sched_getaffinity(0))
+    return os.cpu_count() or 1
 
 
 class CannotCheck(Exception):
@@ -40,7 +68,7 @@ def cannot_check(message: str, code: int) -> None:
 # Options that take a value, to find the build list among the arguments of a command
 # line click refused (see `JunitOnEveryExit`).
 _VALUED_OPTIONS = frozenset({"--server", "--api-key", "--format", "--fail-on", "--require", "--units",
-                             "--inventory", "--timeout"})
+                             "--inventory", "--jobs", "--timeout"})
 
 
 def _junit_wanted(args: list[str]) -> bool:
@@ -95,22 +123,88 @@ def _is_csv(source: str, text: str) -> bool:
     return not looks_like_json(text)
 
 
-def _embedded(data: bytes, source: str, units: str, require: list[str], inventory: tuple[str, ...]) -> Any:
-    from service.catalog_loader import load_catalog
+def _embedded(data: bytes, source: str, units: str, require: list[str], inventory: tuple[str, ...],
+              jobs: int) -> BatchAnswer:
     from service.cli.lookup import UnusableInput, references_from
     from service.formats.build_list import BuildListError, decode, read_build_list
-    from service.usecases.batch import run_batch
+    from service.usecases.batch import resolve_references
 
     try:
         text = decode(data)
         raw_items = read_build_list(text, csv_format=_is_csv(source, text))
-        fetch = references_from(inventory)
+        plugs, heads = resolve_references(raw_items, references_from(inventory))
     except BuildListError as error:
         cannot_check(f"{source}: the build list cannot be used: "
                      + "\n  ".join([""] + [str(p) for p in error.problems]), EXIT_UNUSABLE)
     except UnusableInput as error:
         cannot_check(str(error), EXIT_UNUSABLE)
-    return run_batch(raw_items, load_catalog(), fetch, units=units, require=require)
+    with progress_bar(2 * len(raw_items)) as progress:  # each line is loaded, then checked
+        if jobs > 1 and len(raw_items) >= MIN_LINES_TO_SHARE:
+            return _check_shared_out(raw_items, plugs, heads, units, require, jobs, progress)
+        return _check_part(raw_items, plugs, heads, units, require, progress)
+
+
+def _check_part(raw_items: list[RawItem], plugs: Mapping[str, dict], heads: Mapping[str, dict], units: str,
+                require: list[str], progress: Progress | None = None) -> BatchAnswer:
+    """Load and check (part of) a list: in this process, or in a process of the pool."""
+    from service.catalog_loader import load_catalog
+    from service.usecases.batch import check_list, no_progress
+
+    return check_list(raw_items, load_catalog(), plugs, heads, units=units, require=require,
+                      progress=progress or no_progress)
+
+
+def _check_shared_out(raw_items: list[RawItem], plugs: Mapping[str, dict], heads: Mapping[str, dict], units: str,
+                      require: list[str], jobs: int, progress: Progress) -> BatchAnswer:
+    """The list cut into consecutive parts, checked by `jobs` processes, joined in order."""
+    from concurrent.futures import ProcessPoolExecutor, as_completed
+
+    from service.usecases.batch import joined
+
+    size = -(-len(raw_items) // (jobs * PARTS_PER_JOB))
+    parts = [raw_items[start:start + size] for start in range(0, len(raw_items), size)]
+    with ProcessPoolExecutor(max_workers=jobs, initializer=_ignore_interrupts) as pool:
+        futures = {pool.submit(_check_part, part, plugs, heads, units, require): len(part) for part in parts}
+        for future in as_completed(futures):
+            future.result()  # a part that failed fails the run here, with its traceback
+            progress(2 * futures[future])
+        return joined(future.result() for future in futures)
+
+
+def _ignore_interrupts() -> None:
+    """In the pool's processes: Ctrl-C is for this command, which then stops the pool;
+    the processes need not each print a traceback."""
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+
+
+@contextmanager
+def progress_bar(total: int, stream: TextIO | None = None,
+                 clock: Callable[[], float] = time.monotonic) -> Iterator[Progress]:
+    """A progress bar on standard error for a list that takes more than
+    PROGRESS_AFTER_S, drawn only when standard error is a terminal (CI logs and files
+    stay clean). Yields the `progress` function the use case calls."""
+    stream = stream if stream is not None else sys.stderr
+    on_terminal = stream.isatty()
+    started = clock()
+    done = 0
+    bar: Any = None
+
+    def progress(lines: int) -> None:
+        nonlocal done, bar
+        done += lines
+        if bar is None and on_terminal and clock() - started >= PROGRESS_AFTER_S:
+            bar = click.progressbar(length=total, label="checking", file=stream)
+            bar.update(done)
+        elif bar is not None:
+            bar.update(lines)
+
+    try:
+        yield progress
+    finally:
+        if bar is not None:
+            bar.render_finish()
 
 
 def _remote(data: bytes, source: str, server: str, api_key: str | None, units: str, require: list[str],
@@ -147,10 +241,13 @@ def _remote(data: bytes, source: str, server: str, api_key: str | None, units: s
 @click.option("--inventory", multiple=True, type=click.Path(exists=True, dir_okay=False), metavar="FILE",
               help="Plugs/heads for sku and head_id references (inventory CSV export or JSON lines); "
               "repeatable. Default: the local database, if migrated.")
+@click.option("--jobs", type=click.IntRange(min=1), metavar="N",
+              help=f"Processes that share out a list of {MIN_LINES_TO_SHARE:,} lines or more (embedded runs); "
+              "the output is the same for any N.  [default: the number of cores]")
 @click.option("--timeout", type=click.FloatRange(min=1.0), default=300.0, show_default=True,
               help="Seconds to wait for --server's answer.")
 def command(build_list: str, server: str | None, api_key: str | None, output_format: str, fail_on: str,
-            require: list[str], units: str, inventory: tuple[str, ...], timeout: float) -> None:
+            require: list[str], units: str, inventory: tuple[str, ...], jobs: int | None, timeout: float) -> None:
     """Check every line of BUILD_LIST (CSV, or the batch endpoint's JSON; - reads stdin).
 
     Exit 0 when no line fails, 1 when a line fails or cannot be read, 2 when the file
@@ -158,7 +255,7 @@ def command(build_list: str, server: str | None, api_key: str | None, output_for
     """
     source = "<stdin>" if build_list == "-" else build_list
     try:
-        _validate(build_list, server, api_key, output_format, fail_on, require, units, inventory, timeout)
+        _validate(build_list, server, api_key, output_format, fail_on, require, units, inventory, jobs, timeout)
     except CannotCheck as failure:
         click.echo(f"plugfit: {failure.message}", err=True)
         if output_format == "junit":
@@ -167,7 +264,7 @@ def command(build_list: str, server: str | None, api_key: str | None, output_for
 
 
 def _validate(build_list: str, server: str | None, api_key: str | None, output_format: str, fail_on: str,
-              require: list[str], units: str, inventory: tuple[str, ...], timeout: float) -> None:
+              require: list[str], units: str, inventory: tuple[str, ...], jobs: int | None, timeout: float) -> None:
     if server and inventory:
         raise CannotCheck("--inventory is for embedded runs; with --server the service's own inventory is used",
                           EXIT_UNUSABLE, "usage")
@@ -178,7 +275,7 @@ def _validate(build_list: str, server: str | None, api_key: str | None, output_f
         answer = _remote(data, source, server, api_key, units, require, timeout)
         _print(answer, source, output_format, fail_on, units, server)
         sys.exit(exit_code(answer, fail_on))
-    batch = _embedded(data, source, units, require, inventory)
+    batch = _embedded(data, source, units, require, inventory, jobs or default_jobs())
     if output_format == "json":  # written as it is: no need to read the results back
         click.echo(batch.to_json())
         sys.exit(summary_exit_code(batch.summary, fail_on))

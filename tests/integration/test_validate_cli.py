@@ -277,3 +277,61 @@ def test_junit_is_written_when_the_command_line_is_wrong(tmp_path, arguments):
     assert done.returncode == 2
     error = junit_error_case(done.stdout)
     assert error.get("type") == "usage" and error.get("message")
+
+
+# --- a long list shared out over processes (--jobs) -------------------------------------
+
+
+def _long_distinct_list(tmp_path: Path) -> str:
+    """2,400 lines: FLUSH, LONG_ROOMY and HITS_PISTON with every plug and head a few
+    micrometres apart, so every line is checked afresh; the verdicts stay those of the
+    three (pass, warn, fail), and every 100th line cannot be read."""
+    rows = []
+    for n in range(800):
+        reach = "abc" if n % 100 == 99 else f"{19 + n / 1e5:.5f}"
+        rows += [f"flush-{n},M14,flat,{reach},1.5,4,M14,flat,{17.5 + n / 1e5:.5f},8,\n",
+                 f"long-{n},M14,flat,{26.5 + n / 1e5:.5f},1.5,4,M14,flat,17.5,{20 + n / 1e5:.5f},\n",
+                 f"hits-{n},M14,flat,{26.5 - n / 1e5:.5f},1.5,4,M14,flat,17.5,{8 - n / 1e5:.5f},REACH_LONG: why\n"]
+    return write(tmp_path, HEADER + "".join(rows), "long.csv")
+
+
+@pytest.mark.parametrize("output_format", ["json", "text", "junit"])
+def test_two_jobs_print_exactly_what_one_prints(tmp_path, output_format):
+    path = _long_distinct_list(tmp_path)
+    one = run("validate", path, "--format", output_format, "--jobs", "1")
+    two = run("validate", path, "--format", output_format, "--jobs", "2")
+    assert one.returncode == two.returncode == 1, two.stderr  # 800 lines hit the piston
+    assert two.stdout == one.stdout
+    assert one.stderr == two.stderr == ""  # no progress bar when standard error is not a terminal
+    if output_format == "json":
+        answer = json.loads(two.stdout)
+        assert answer["summary"] == {"total": 2400, "pass": 792, "warn": 800, "fail": 800, "invalid": 8,
+                                     "verdict": "fail"}
+        assert [r["ref"] for r in answer["results"][:4]] == ["flush-0", "long-0", "hits-0", "flush-1"]
+        assert answer["results"][-1]["ref"] == "hits-799"
+
+
+def test_two_jobs_share_the_list_out_in_parts_and_join_them_in_order(runner, tmp_path, monkeypatch):
+    from concurrent.futures import ProcessPoolExecutor
+
+    from service.cli import validate
+
+    submitted = []
+    submit = ProcessPoolExecutor.submit
+    monkeypatch.setattr(ProcessPoolExecutor, "submit",
+                        lambda pool, fn, part, *args: submitted.append(len(part)) or submit(pool, fn, part, *args))
+    path = _long_distinct_list(tmp_path)
+    shared_out = runner.invoke("validate", path, "--format", "json", "--jobs", "2")
+    assert submitted == [2400 // (2 * validate.PARTS_PER_JOB)] * (2 * validate.PARTS_PER_JOB)
+    in_one = runner.invoke("validate", path, "--format", "json", "--jobs", "1")
+    assert len(submitted) == 2 * validate.PARTS_PER_JOB  # one job: no pool
+    assert shared_out.exit_code == in_one.exit_code == 1
+    assert shared_out.output == in_one.output
+
+
+def test_a_short_list_is_checked_in_this_process_whatever_jobs_says(runner, tmp_path, monkeypatch):
+    from concurrent.futures import ProcessPoolExecutor
+
+    monkeypatch.setattr(ProcessPoolExecutor, "__init__", lambda *args, **kwargs: pytest.fail("a pool was started"))
+    result = runner.invoke("validate", write(tmp_path, HEADER + FLUSH * 1999), "--jobs", "2")
+    assert result.exit_code == 0
