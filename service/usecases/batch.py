@@ -24,7 +24,7 @@ validate --jobs`), each checking whole lists or parts of one.
 """
 from __future__ import annotations
 
-from collections.abc import Callable, Iterable, Mapping
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any
@@ -59,7 +59,7 @@ class LoadedItem:
     line: int | None
     ref: str
     request: dict[str, Any]  # {"plug", "head", "options"}, loaded (shared, never mutated)
-    waivers: list[dict[str, Any]]
+    waivers: Sequence[dict[str, Any]]
     columns: Mapping[tuple, str] | None = None  # CSV: field path -> column, for errors
 
 
@@ -191,7 +191,7 @@ class ItemLoader:
         unknown = [name for name in data if name not in self._fields]
         for name in unknown:
             errors[name] = ["Unknown field."]
-        waivers: list[dict[str, Any]] = []
+        waivers: Sequence[dict[str, Any]] = ()
         for name in ("ref", "waive", "note"):
             if name not in data:
                 continue
@@ -206,13 +206,11 @@ class ItemLoader:
                 waivers = value
         request: dict[str, Any] = {}
         for name in self.PARTS:
-            if name not in data:
-                if self._fields[name].required:
-                    errors[name] = [self._fields[name].error_messages["required"]]
-                    continue
-                request[name] = {}
+            if name not in data and self._fields[name].required:
+                errors[name] = [self._fields[name].error_messages["required"]]
                 continue
-            loaded, messages = self._part(name, data[name])
+            # No options are the empty options: loaded once, one object for every line.
+            loaded, messages = self._part(name, data.get(name, {}))
             if messages is not None:
                 errors[name] = messages
             else:
@@ -284,7 +282,7 @@ def no_references(skus: set[str], head_ids: set[str]) -> tuple[dict, dict]:
 # --- checking and writing -----------------------------------------------------------------
 
 
-def _waived(result: FitResult, document: dict[str, Any], waivers: list[dict[str, Any]]) -> dict[str, Any]:
+def _waived(result: FitResult, document: dict[str, Any], waivers: Sequence[dict[str, Any]]) -> dict[str, Any]:
     """The document with its `waivers` member: each waiver with the findings it moved out
     of `findings`, and the verdict worked out again from what remains. Without waivers,
     the document as it is, with `"waivers": []`."""
@@ -305,7 +303,7 @@ def _waived(result: FitResult, document: dict[str, Any], waivers: list[dict[str,
                         for waiver, findings in zip(waivers, taken, strict=True)]}
 
 
-def _waivers_key(waivers: list[dict[str, Any]]) -> tuple:
+def _waivers_key(waivers: Sequence[dict[str, Any]]) -> tuple:
     return tuple((tuple(waiver["codes"]), waiver["reason"]) for waiver in waivers)
 
 
@@ -325,8 +323,9 @@ class Checker:
         self._find_plug, self._find_head = plugs.get, heads.get
         self._units = units
         self._shared: dict[tuple, Any] = {}  # result_document's intern table, for this batch
-        # By the loaded sub-documents' identities (the loader gives equal inputs one
-        # object) and the waivers: the verdict and the result document as JSON.
+        # Keyed by the loaded sub-documents' identities (the loader gives equal inputs one
+        # object; the items keep it alive while the list is checked, so no other object
+        # can take its identity) and the waivers: the verdict and the result as JSON.
         self._done: dict[tuple, tuple[str, bytes] | UnknownReference] = {}
 
     def result(self, item: Item) -> tuple[str, bytes]:
@@ -345,7 +344,7 @@ class Checker:
         verdict, document_json = checked
         return verdict, batch_item_json(own, document_json)
 
-    def _check(self, request: dict[str, Any], waivers: list[dict[str, Any]]) -> tuple[str, bytes] | UnknownReference:
+    def _check(self, request: dict[str, Any], waivers: Sequence[dict[str, Any]]) -> tuple[str, bytes] | UnknownReference:
         key = (id(request["plug"]), id(request["head"]), id(request["options"]), _waivers_key(waivers))
         checked = self._done.get(key)
         if checked is None:
@@ -379,7 +378,7 @@ class BatchAnswer:
         return {"summary": self.summary, "results": self.results}
 
 
-def check_items(items: Iterable[Item], catalog: Catalog, plugs: Mapping[str, dict], heads: Mapping[str, dict],
+def check_items(items: list[Item], catalog: Catalog, plugs: Mapping[str, dict], heads: Mapping[str, dict],
                 units: str = "metric", progress: Progress = no_progress) -> BatchAnswer:
     """Check loaded items in order; `plugs` and `heads` hold the stored records the
     items name, by identifier."""
