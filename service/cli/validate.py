@@ -268,6 +268,9 @@ def _validate(build_list: str, server: str | None, api_key: str | None, output_f
     if server and inventory:
         raise CannotCheck("--inventory is for embedded runs; with --server the service's own inventory is used",
                           EXIT_UNUSABLE, "usage")
+    if server and jobs:
+        raise CannotCheck("--jobs is for embedded runs; with --server the service checks the list",
+                          EXIT_UNUSABLE, "usage")
     data, source = _read_input(build_list)
     from service.formats.reports import exit_code, summary_exit_code
 

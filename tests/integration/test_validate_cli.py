@@ -119,6 +119,8 @@ def test_a_file_that_is_not_a_build_list_exits_2_naming_line_and_column(runner, 
     ("--require", "sparkle"),
     ("--format", "yaml"),
     ("--server", "http://127.0.0.1:9", "--inventory", str(REPO / "seed_catalog/demo/plugs.csv")),
+    ("--server", "http://127.0.0.1:9", "--jobs", "2"),
+    ("--jobs", "0"),
 ])
 def test_wrong_options_exit_2(runner, tmp_path, args):
     assert runner.invoke("validate", write(tmp_path, HEADER + FLUSH), *args).exit_code == 2
