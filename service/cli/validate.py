@@ -42,7 +42,11 @@ if TYPE_CHECKING:
 # Below this many lines a list is checked in this process whatever --jobs says:
 # starting processes and sending them their parts would cost more than it saves.
 MIN_LINES_TO_SHARE = 2_000
-PARTS_PER_JOB = 4  # the list is cut into jobs x this parts, so the progress bar moves
+# The list is cut into at least jobs x PARTS_PER_JOB parts of at most MAX_PART_LINES
+# lines: the progress bar moves, and Ctrl-C (which drops the parts not started) waits
+# for a few short parts at most. Each part loads the plugs and heads it names afresh.
+PARTS_PER_JOB = 4
+MAX_PART_LINES = 1_000
 PROGRESS_AFTER_S = 1.0  # a list checked sooner than this shows no progress bar
 
 
@@ -161,19 +165,24 @@ def _check_shared_out(raw_items: list[RawItem], plugs: Mapping[str, dict], heads
 
     from service.usecases.batch import joined
 
-    size = -(-len(raw_items) // (jobs * PARTS_PER_JOB))
+    size = min(MAX_PART_LINES, -(-len(raw_items) // (jobs * PARTS_PER_JOB)))
     parts = [raw_items[start:start + size] for start in range(0, len(raw_items), size)]
-    with ProcessPoolExecutor(max_workers=jobs, initializer=_ignore_interrupts) as pool:
+    pool = ProcessPoolExecutor(max_workers=jobs, initializer=_ignore_interrupts)
+    try:
         futures = {pool.submit(_check_part, part, plugs, heads, units, require): len(part) for part in parts}
         for future in as_completed(futures):
             future.result()  # a part that failed fails the run here, with its traceback
             progress(2 * futures[future])
-        return joined(future.result() for future in futures)
+    finally:  # after Ctrl-C or a failed part, the parts not started are dropped
+        pool.shutdown(cancel_futures=True)
+    return joined(future.result() for future in futures)
 
 
 def _ignore_interrupts() -> None:
-    """In the pool's processes: Ctrl-C is for this command, which then stops the pool;
-    the processes need not each print a traceback."""
+    """In the pool's processes. Ctrl-C reaches the whole process group; were a process
+    to stop inside the pool's queue machinery, it could leave a lock held and the run
+    hung. This command takes it instead, drops the parts not started and waits for the
+    few under way (MAX_PART_LINES each)."""
     import signal
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)

@@ -324,7 +324,7 @@ def test_two_jobs_share_the_list_out_in_parts_and_join_them_in_order(runner, tmp
                         lambda pool, fn, part, *args: submitted.append(len(part)) or submit(pool, fn, part, *args))
     path = _long_distinct_list(tmp_path)
     shared_out = runner.invoke("validate", path, "--format", "json", "--jobs", "2")
-    assert submitted == [2400 // (2 * validate.PARTS_PER_JOB)] * (2 * validate.PARTS_PER_JOB)
+    assert submitted == [2400 // (2 * validate.PARTS_PER_JOB)] * (2 * validate.PARTS_PER_JOB)  # 300 <= 1,000
     in_one = runner.invoke("validate", path, "--format", "json", "--jobs", "1")
     assert len(submitted) == 2 * validate.PARTS_PER_JOB  # one job: no pool
     assert shared_out.exit_code == in_one.exit_code == 1
@@ -337,3 +337,26 @@ def test_a_short_list_is_checked_in_this_process_whatever_jobs_says(runner, tmp_
     monkeypatch.setattr(ProcessPoolExecutor, "__init__", lambda *args, **kwargs: pytest.fail("a pool was started"))
     result = runner.invoke("validate", write(tmp_path, HEADER + FLUSH * 1999), "--jobs", "2")
     assert result.exit_code == 0
+
+
+def test_ctrl_c_during_a_shared_out_run_drops_the_parts_not_started(tmp_path, monkeypatch):
+    from concurrent.futures import ProcessPoolExecutor
+
+    from service.cli import validate
+    from service.formats.build_list import read_csv
+
+    futures = []
+    submit = ProcessPoolExecutor.submit
+    monkeypatch.setattr(ProcessPoolExecutor, "submit",
+                        lambda pool, *args: futures.append(submit(pool, *args)) or futures[-1])
+    monkeypatch.setattr(validate, "MAX_PART_LINES", 100)  # 2,400 lines: 24 parts
+
+    def interrupted(lines: int) -> None:  # Ctrl-C as the first part comes back
+        raise KeyboardInterrupt
+
+    raw_items = read_csv(Path(_long_distinct_list(tmp_path)).read_text(encoding="utf-8"))
+    with pytest.raises(KeyboardInterrupt):
+        validate._check_shared_out(raw_items, {}, {}, "metric", [], 2, interrupted)
+    assert len(futures) == 24 and all(future.done() for future in futures)  # none left running
+    # At most two under way and three queued when it came: the other parts never ran.
+    assert sum(future.cancelled() for future in futures) >= 24 - 1 - 5
