@@ -232,7 +232,10 @@ class ItemLoader:
 
 def load_items(raw_items: Iterable[RawItem], require: Iterable[str] = (),
                progress: Progress = no_progress) -> list[Item]:
-    loader = ItemLoader(require)
+    return _loaded(ItemLoader(require), raw_items, progress)
+
+
+def _loaded(loader: ItemLoader, raw_items: Iterable[RawItem], progress: Progress) -> list[Item]:
     items = []
     for raw in raw_items:
         items.append(loader.load(raw))
@@ -324,8 +327,9 @@ class Checker:
         self._units = units
         self._shared: dict[tuple, Any] = {}  # result_document's intern table, for this batch
         # Keyed by the loaded sub-documents' identities (the loader gives equal inputs one
-        # object; the items keep it alive while the list is checked, so no other object
-        # can take its identity) and the waivers: the verdict and the result as JSON.
+        # object, and the items or the loader keep it alive while this checker is used,
+        # so no other object can take its identity) and the waivers: the verdict and the
+        # result as JSON.
         self._done: dict[tuple, tuple[str, bytes] | UnknownReference] = {}
 
     def result(self, item: Item) -> tuple[str, bytes]:
@@ -382,7 +386,10 @@ def check_items(items: list[Item], catalog: Catalog, plugs: Mapping[str, dict], 
                 units: str = "metric", progress: Progress = no_progress) -> BatchAnswer:
     """Check loaded items in order; `plugs` and `heads` hold the stored records the
     items name, by identifier."""
-    checker = Checker(catalog, plugs, heads, units)
+    return _answer(Checker(catalog, plugs, heads, units), items, progress)
+
+
+def _answer(checker: Checker, items: list[Item], progress: Progress) -> BatchAnswer:
     counts = {"pass": 0, "warn": 0, "fail": 0, "invalid": 0}
     results: list[bytes] = []
     for item in items:
@@ -418,12 +425,28 @@ def joined(answers: Iterable[BatchAnswer]) -> BatchAnswer:
     return BatchAnswer(summarise(counts), results)
 
 
+class ListChecker:
+    """Loads and checks lines whose references are resolved (`plugs`, `heads`), part
+    after part if need be: what one part loaded and checked serves the next, so a list
+    that repeats its plugs and heads loads and checks each once (a process of a
+    `plugfit validate --jobs` run keeps one for all the parts it is given). The loader
+    keeps every document it loaded for as long as this lives, which keeps the checker's
+    keys (their identities) unique."""
+
+    def __init__(self, catalog: Catalog, plugs: Mapping[str, dict], heads: Mapping[str, dict], *,
+                 units: str = "metric", require: Iterable[str] = ()) -> None:
+        self._loader = ItemLoader(require)
+        self._checker = Checker(catalog, plugs, heads, units)
+
+    def check(self, raw_items: list[RawItem], progress: Progress = no_progress) -> BatchAnswer:
+        return _answer(self._checker, _loaded(self._loader, raw_items, progress), progress)
+
+
 def check_list(raw_items: list[RawItem], catalog: Catalog, plugs: Mapping[str, dict], heads: Mapping[str, dict],
                *, units: str = "metric", require: Iterable[str] = (),
                progress: Progress = no_progress) -> BatchAnswer:
     """Load and check lines whose references are already resolved (`plugs`, `heads`)."""
-    items = load_items(raw_items, require, progress)
-    return check_items(items, catalog, plugs, heads, units, progress)
+    return ListChecker(catalog, plugs, heads, units=units, require=require).check(raw_items, progress)
 
 
 def run_batch(raw_items: list[RawItem], catalog: Catalog, fetch_references: FetchReferences = no_references, *,

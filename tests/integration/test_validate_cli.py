@@ -331,12 +331,17 @@ def test_two_jobs_share_the_list_out_in_parts_and_join_them_in_order(runner, tmp
     assert shared_out.output == in_one.output
 
 
-def test_a_short_list_is_checked_in_this_process_whatever_jobs_says(runner, tmp_path, monkeypatch):
+@pytest.mark.parametrize("lines", [
+    FLUSH * 1999,  # short
+    (FLUSH + LONG_ROOMY + HITS_PISTON) * 1000,  # long, but three lines over and over
+])
+def test_a_short_or_repetitive_list_is_checked_in_this_process_whatever_jobs_says(runner, tmp_path, monkeypatch,
+                                                                                  lines):
     from concurrent.futures import ProcessPoolExecutor
 
     monkeypatch.setattr(ProcessPoolExecutor, "__init__", lambda *args, **kwargs: pytest.fail("a pool was started"))
-    result = runner.invoke("validate", write(tmp_path, HEADER + FLUSH * 1999), "--jobs", "2")
-    assert result.exit_code == 0
+    result = runner.invoke("validate", write(tmp_path, HEADER + lines), "--jobs", "2", "--format", "json")
+    assert json.loads(result.output)["summary"]["total"] == lines.count("\n")
 
 
 def test_ctrl_c_during_a_shared_out_run_drops_the_parts_not_started(tmp_path, monkeypatch):
