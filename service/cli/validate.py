@@ -279,8 +279,8 @@ def _remote(data: bytes, source: str, server: str, api_key: str | None, units: s
               help="Plugs/heads for sku and head_id references (inventory CSV export or JSON lines); "
               "repeatable. Default: the local database, if migrated.")
 @click.option("--jobs", type=click.IntRange(min=1), metavar="N",
-              help=f"Processes that share out a list of {MIN_LINES_TO_SHARE:,} lines or more (embedded runs); "
-              "the output is the same for any N.  [default: the number of cores]")
+              help=f"Processes that share out a list of {MIN_LINES_TO_SHARE:,} lines or more whose lines mostly "
+              "differ (embedded runs); the output is the same for any N.  [default: the number of cores]")
 @click.option("--timeout", type=click.FloatRange(min=1.0), default=300.0, show_default=True,
               help="Seconds to wait for --server's answer.")
 def command(build_list: str, server: str | None, api_key: str | None, output_format: str, fail_on: str,
