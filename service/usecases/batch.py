@@ -149,15 +149,19 @@ class ItemLoader:
             return None, ["nested too deeply"]
         cache = self._cache[name]
         hit = cache.get(key)
-        if hit is None:
-            try:
-                hit = (self._schema_of(name, document).load(document), None)
-            except ValidationError as exc:
-                hit = (None, exc.messages)
-            except RecursionError:
-                hit = (None, ["nested too deeply"])
-            cache[key] = hit
-        self._by_identity[(name, id(document))] = (document, hit)
+        if hit is not None:
+            # Seen before, so likely to come again: by identity next time. A document
+            # seen once is not entered (a list of distinct lines would otherwise keep
+            # two more objects a line alive for the garbage collector to walk).
+            self._by_identity[(name, id(document))] = (document, hit)
+            return hit
+        try:
+            hit = (self._schema_of(name, document).load(document), None)
+        except ValidationError as exc:
+            hit = (None, exc.messages)
+        except RecursionError:
+            hit = (None, ["nested too deeply"])
+        cache[key] = hit
         return hit
 
     def _schema_of(self, name: str, document: Any) -> Schema:
