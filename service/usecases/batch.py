@@ -6,17 +6,21 @@ an `invalid` result with its field errors, and the other lines are still checked
 
 A batch runs in its caller's process from start to end, in three steps:
 
-1. Loading (`ItemLoader`): every line through the parts of `BatchItemSchema`. A list
+1. Resolving (`resolve_references`): every `sku` and `head_id` the lines name, read
+   from the lines as they came and looked up in one call of the caller's
+   `fetch_references` (the database, or inventory files).
+2. Loading (`ItemLoader`): every line through the parts of `BatchItemSchema`. A list
    of 10,000 lines repeats a few dozen heads and a few hundred plugs, and marshmallow
    needs some 70 µs to load a plug, so each distinct plug, head and options document is
    loaded once per batch, through a schema narrowed to the fields it gives.
-2. Resolving: every `sku` and `head_id` the list names, looked up in one call of the
-   caller's `fetch_references` (the database, or inventory files).
-3. Checking and writing (`Checker`): each distinct (plug, head, options) is checked
-   once and its result document written as JSON once (`service.formats.result_json`,
-   orjson); every line's result is kept as its JSON text. A long list thus leaves bytes
-   behind rather than millions of small dicts that Python's garbage collector would
-   walk again and again.
+3. Checking and writing (`Checker`): each distinct (plug, head, options, waivers) is
+   checked once and its result document written as JSON once
+   (`service.formats.result_json`, orjson); every line's result is kept as its JSON
+   text. A long list thus leaves bytes behind rather than millions of small dicts that
+   Python's garbage collector would walk again and again.
+
+`ListChecker` does steps 2 and 3 for a list cut into parts, keeping what one part
+loaded and checked for the next.
 
 No Flask and no database here (the caller passes `fetch_references`), and no other
 process: throughput across cores comes from more processes (web workers, `plugfit
@@ -48,6 +52,46 @@ PROGRESS_EVERY = 250  # lines between two calls of `progress`
 
 def no_progress(lines: int) -> None:
     """For callers that show no progress."""
+
+
+# --- resolving ----------------------------------------------------------------------------
+
+
+def resolve_references(raw_items: Iterable[RawItem], fetch_references: FetchReferences
+                       ) -> tuple[dict[str, dict], dict[str, dict]]:
+    """The stored plugs and heads the lines name, by identifier, from one call of
+    `fetch_references` (none when the lines name none). Only what the lines name is
+    kept: an inventory file's look-up answers with all it holds, and what is resolved
+    here goes to every process of a `plugfit validate --jobs` run."""
+    skus, head_ids = _references(raw_items)
+    if not (skus or head_ids):
+        return {}, {}
+    plugs, heads = fetch_references(skus, head_ids)
+    return ({sku: plugs[sku] for sku in skus if sku in plugs},
+            {head_id: heads[head_id] for head_id in head_ids if head_id in heads})
+
+
+def _references(raw_items: Iterable[RawItem]) -> tuple[set[str], set[str]]:
+    """Every distinct sku and head_id the lines name, read before they are loaded, so a
+    list is resolved before it is loaded, in one look-up. A name that the schemas refuse
+    is looked up in vain and harmlessly: its line is invalid anyway."""
+    skus: set[str] = set()
+    head_ids: set[str] = set()
+    for raw in raw_items:
+        data = raw.data
+        if not isinstance(data, dict):
+            continue
+        plug, head = data.get("plug"), data.get("head")
+        if isinstance(plug, dict) and isinstance(plug.get("sku"), str):
+            skus.add(plug["sku"])
+        if isinstance(head, dict) and isinstance(head.get("head_id"), str):
+            head_ids.add(head["head_id"])
+    return skus, head_ids
+
+
+def no_references(skus: set[str], head_ids: set[str]) -> tuple[dict, dict]:
+    """For callers with no inventory: every reference is unknown."""
+    return {}, {}
 
 
 # --- loading ------------------------------------------------------------------------------
@@ -249,43 +293,6 @@ def _loaded(loader: ItemLoader, raw_items: Iterable[RawItem], progress: Progress
     return items
 
 
-def resolve_references(raw_items: Iterable[RawItem], fetch_references: FetchReferences
-                       ) -> tuple[dict[str, dict], dict[str, dict]]:
-    """The stored plugs and heads the lines name, by identifier, from one call of
-    `fetch_references` (none when the lines name none). Only what the lines name is
-    kept: an inventory file's look-up answers with all it holds, and what is resolved
-    here goes to every process of a `plugfit validate --jobs` run."""
-    skus, head_ids = _references(raw_items)
-    if not (skus or head_ids):
-        return {}, {}
-    plugs, heads = fetch_references(skus, head_ids)
-    return ({sku: plugs[sku] for sku in skus if sku in plugs},
-            {head_id: heads[head_id] for head_id in head_ids if head_id in heads})
-
-
-def _references(raw_items: Iterable[RawItem]) -> tuple[set[str], set[str]]:
-    """Every distinct sku and head_id the lines name, read before they are loaded, so a
-    list is resolved before it is loaded, in one look-up. A name that the schemas refuse
-    is looked up in vain and harmlessly: its line is invalid anyway."""
-    skus: set[str] = set()
-    head_ids: set[str] = set()
-    for raw in raw_items:
-        data = raw.data
-        if not isinstance(data, dict):
-            continue
-        plug, head = data.get("plug"), data.get("head")
-        if isinstance(plug, dict) and isinstance(plug.get("sku"), str):
-            skus.add(plug["sku"])
-        if isinstance(head, dict) and isinstance(head.get("head_id"), str):
-            head_ids.add(head["head_id"])
-    return skus, head_ids
-
-
-def no_references(skus: set[str], head_ids: set[str]) -> tuple[dict, dict]:
-    """For callers with no inventory: every reference is unknown."""
-    return {}, {}
-
-
 # --- checking and writing -----------------------------------------------------------------
 
 
@@ -427,6 +434,9 @@ def joined(answers: Iterable[BatchAnswer]) -> BatchAnswer:
             counts[verdict] += answer.summary[verdict]
         results += answer.result_json
     return BatchAnswer(summarise(counts), results)
+
+
+# --- a whole list -------------------------------------------------------------------------
 
 
 class ListChecker:
