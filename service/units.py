@@ -4,6 +4,14 @@ The engine works on plain floats in mm, N·m, bar, K and kV. Anything a client w
 with units ("0.75 in", "18 ft-lb", "45 degC") is turned into those floats here, once:
 pint needs hundreds of microseconds per parse, and build lists repeat the same strings
 on thousands of lines, so parses are cached by (text, kind).
+
+pint evaluates what it is given as an expression, with Python's big integers: left to
+it, `9**9**8 mm` holds a worker for half a minute and `10**10000 mm` overflows. So no
+text reaches pint unless it matches the quantity grammar below (`QUANTITY_GRAMMAR`, the
+accepted forms), at most `MAX_QUANTITY_TEXT` characters long: a sign, a number (decimal,
+a fraction `3/4` or a mixed number `1 1/4`), and a unit expression of unit names joined
+by `*` or `/` with exponents up to 3 (the trade's `ft-lb`, `N·m`, `°C` are rewritten
+to such names first). Everything else is refused before pint sees it, in microseconds.
 """
 from __future__ import annotations
 
@@ -30,20 +38,23 @@ class UnitError(ValueError):
 @dataclass(frozen=True, slots=True)
 class Kind:
     """A quantity kind: the canonical unit the engine works in, the unit a bare
-    number means, and the pint dimensionality it must have."""
+    number means, the pint dimensionality it must have, and examples of what a client
+    may write (shown when a text is refused)."""
 
     name: str
     canonical: str
     bare: str
     dimensionality: str
+    examples: str
 
 
-LENGTH = Kind("length", "mm", "mm", "[length]")
-TORQUE = Kind("torque", "N*m", "N*m", "[length] ** 2 * [mass] / [time] ** 2")
-PRESSURE = Kind("pressure", "bar", "bar", "[mass] / [length] / [time] ** 2")
-TEMPERATURE = Kind("temperature", "K", "degC", "[temperature]")
-VOLTAGE = Kind("voltage", "kV", "kV", "[length] ** 2 * [mass] / [current] / [time] ** 3")
-ANGLE = Kind("angle", "deg", "deg", "")
+LENGTH = Kind("length", "mm", "mm", "[length]", "19, '19 mm', '0.75 in', '3/4 in' or '1 1/4 in'")
+TORQUE = Kind("torque", "N*m", "N*m", "[length] ** 2 * [mass] / [time] ** 2",
+              "25, '25 N*m', '18 ft-lb' or '160 in-lb'")
+PRESSURE = Kind("pressure", "bar", "bar", "[mass] / [length] / [time] ** 2", "1.2, '1.2 bar', '17 psi' or '120 kPa'")
+TEMPERATURE = Kind("temperature", "K", "degC", "[temperature]", "45, '45 degC', '113 degF' or '320 K'")
+VOLTAGE = Kind("voltage", "kV", "kV", "[length] ** 2 * [mass] / [current] / [time] ** 3", "30, '30 kV' or '30000 V'")
+ANGLE = Kind("angle", "deg", "deg", "", "15 or '15 deg'")
 KINDS = {k.name: k for k in (LENGTH, TORQUE, PRESSURE, TEMPERATURE, VOLTAGE, ANGLE)}
 
 # Output units per unit system; ASCII and pint-parsable, as the contract asks.
@@ -97,6 +108,21 @@ def pressure_reference(text: str) -> tuple[str, str | None]:
 _NOT_FINITE = re.compile(r"^[-+]?(?:nan|inf|infinity)\b", re.IGNORECASE)
 _STARTS_WITH_NUMBER = re.compile(r"^\(?\s*[-+]?(?:\d|\.\d)")
 
+# The longest text read as a quantity ("0.7501 in", "18 ft-lb" are under 12): a cap
+# with a message of its own, checked before anything else.
+MAX_QUANTITY_TEXT = 64
+
+# The quantity grammar, matched against the text after the trade spellings have been
+# rewritten (`_normalise`). ASCII digits only. A unit name is letters (and µ, °);
+# `mm2` or `in2` are not names, write `mm**2`. The number is one of:
+_DECIMAL = r"(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][-+]?[0-9]+)?"   # 19, 0.75, .5, 1e3
+_FRACTION = r"[0-9]+/[0-9]+"                                          # 3/4
+_MIXED = r"(?P<whole>[0-9]+)\s+(?P<numerator>[0-9]+)/(?P<denominator>[0-9]+)"  # 1 1/4
+_UNIT_FACTOR = r"(?:[A-Za-zµμ°]+)(?:(?:\*\*|\^)[1-3]|[²³])?"          # mm, in**2, mm³
+_UNIT = rf"{_UNIT_FACTOR}(?:\s*[*/]\s*{_UNIT_FACTOR})*"                 # lbf*ft, N/mm**2
+QUANTITY_GRAMMAR = re.compile(
+    rf"(?P<sign>[-+]?)(?:{_MIXED}|(?P<number>{_FRACTION}|{_DECIMAL}))\s*(?P<unit>{_UNIT})?", re.ASCII)
+
 
 @lru_cache(maxsize=1)
 def registry() -> pint.UnitRegistry:
@@ -120,10 +146,16 @@ def _normalise(text: str, kind: Kind) -> str:
 def check_finite(value: float, kind_name: str) -> float:
     if isinstance(value, bool) or not isinstance(value, (int, float)):
         raise UnitError(f"expected a number or a string with {kind_name} units")
-    number = float(value)
+    try:
+        number = float(value)
+    except OverflowError:  # an integer of hundreds of digits
+        number = math.inf
     if math.isnan(number) or math.isinf(number):
-        raise UnitError("must be a finite number, not NaN or infinity")
+        raise UnitError(_NOT_FINITE_MESSAGE)
     return number
+
+
+_NOT_FINITE_MESSAGE = "must be a finite number, not NaN, infinity or a number too large to hold (above 1e308)"
 
 
 @lru_cache(maxsize=65536)
@@ -131,9 +163,13 @@ def parse_quantity(text: str, kind_name: str) -> float:
     """Parse `text` as a quantity of `kind_name` and return it in the canonical unit.
 
     A bare number in the string ("19") means the kind's bare unit (mm, N·m, bar, °C, kV).
+    Text that does not match `QUANTITY_GRAMMAR` is refused before pint sees it.
     Cached: the same text is parsed by pint only once per process.
     """
     kind = KINDS[kind_name]
+    if len(text) > MAX_QUANTITY_TEXT:
+        raise UnitError(f"a {kind.name} written as text may be at most {MAX_QUANTITY_TEXT} characters "
+                        f"long; write a number or a number and a unit, such as {kind.examples}")
     try:  # a plain number (most cells of a long list): the spellings below cannot apply
         number = float(text)
     except ValueError:
@@ -150,26 +186,48 @@ def parse_quantity(text: str, kind_name: str) -> float:
     if number is not None:
         return convert(check_finite(number, kind.name), kind.bare, kind.canonical)
     if _NOT_FINITE.match(normalised):
-        raise UnitError("must be a finite number, not NaN or infinity")
+        raise UnitError(_NOT_FINITE_MESSAGE)
     if not _STARTS_WITH_NUMBER.match(normalised):
         raise UnitError(f"{text!r} has no number; give a {kind.name} such as '19 mm'")
+    expression = _expression(normalised, text, kind)
     reg = registry()
     try:
-        quantity = reg.Quantity(normalised)
-    except Exception as exc:  # pint raises many types for malformed text
-        raise UnitError(f"cannot read {text!r} as a {kind.name}") from exc
+        quantity = reg.Quantity(expression)
+    except Exception as exc:  # pint raises many types for unknown names, 1/0, offset units
+        raise _unreadable(text, kind) from exc
     if not isinstance(quantity, reg.Quantity):
         raise UnitError(f"{text!r} has no unit; give a number or a {kind.name} with units")
     magnitude = quantity.magnitude
     if isinstance(magnitude, complex) or not isinstance(magnitude, (int, float)):
-        raise UnitError(f"cannot read {text!r} as a {kind.name}")
+        raise _unreadable(text, kind)
     if math.isnan(magnitude) or math.isinf(magnitude):
-        raise UnitError("must be a finite number, not NaN or infinity")
+        raise UnitError(_NOT_FINITE_MESSAGE)
     if kind is ANGLE and quantity.dimensionless:
-        return float(quantity.to("deg").magnitude)
+        return check_finite(quantity.to("deg").magnitude, kind.name)
     if quantity.dimensionality != reg.get_dimensionality(kind.dimensionality):
         raise UnitError(f"{text!r} is not a {kind.name} (expected units like {kind.bare})")
-    return float(quantity.to(kind.canonical).magnitude)
+    return check_finite(quantity.to(kind.canonical).magnitude, kind.name)  # 1e308 in is past 1e308 mm
+
+
+def _unreadable(text: str, kind: Kind) -> UnitError:
+    return UnitError(f"cannot read {text!r} as a {kind.name}; write a number or a number and a unit, "
+                     f"such as {kind.examples}")
+
+
+def _expression(normalised: str, text: str, kind: Kind) -> str:
+    """The text pint may evaluate: `normalised` itself when it matches the grammar (so
+    pint computes exactly what it always did), a mixed number rewritten as one fraction
+    (`1 1/4 in` is 5/4 in, where pint alone would multiply: 1 × 1/4 in). A fraction with
+    no unit is refused: `3/4` alone is almost surely inches, not 0.75 mm."""
+    match = QUANTITY_GRAMMAR.fullmatch(normalised)
+    if match is None:
+        raise _unreadable(text, kind)
+    if not match["unit"] and "/" in normalised:
+        raise UnitError(f"{text!r} is a fraction without a unit; write the unit, such as '3/4 in'")
+    if match["whole"] is None:
+        return normalised
+    numerator = int(match["whole"]) * int(match["denominator"]) + int(match["numerator"])
+    return f"{match['sign']}{numerator}/{match['denominator']} {match['unit'] or ''}"
 
 
 @lru_cache(maxsize=4096)
