@@ -23,6 +23,7 @@ from pathlib import Path
 from typing import Any
 
 from service.cli import common
+from service.formats import json_text
 from service.usecases.batch import FetchReferences
 
 Warn = Callable[[str], None]
@@ -177,8 +178,10 @@ def references_from(inventory: Iterable[str], warn: Warn = common.warn) -> Fetch
 def load_request_file(path: Path) -> Any:
     """A single fit-check request document (`plugfit check --file`)."""
     try:
-        return json.loads(path.read_text(encoding="utf-8-sig"))
+        return json_text.loads(path.read_bytes())
     except (OSError, UnicodeDecodeError) as exc:
         raise UnusableInput(f"{path}: {exc}") from None
     except json.JSONDecodeError as exc:
         raise UnusableInput(f"{path}: line {exc.lineno}, column {exc.colno}: not valid JSON: {exc.msg}") from None
+    except RecursionError:
+        raise UnusableInput(f"{path}: not valid JSON for a fit-check: nested too deeply") from None

@@ -43,6 +43,7 @@ from marshmallow import Schema, ValidationError, fields
 from schemas.batch import BatchRequestSchema
 from schemas.fields import Length, Quantity
 from schemas.specs import HeadInputSchema, OptionsSchema, PlugInputSchema
+from service.formats import json_text
 from service.units import KINDS, UnitError, parse_quantity
 
 CSV_MEDIA_TYPES = frozenset({"text/csv", "application/csv"})
@@ -517,13 +518,11 @@ def _first_message(messages: Any) -> str:
 
 def read_json_text(text: str, *, max_items: int | None = None) -> list[RawItem]:
     try:
-        document = json.loads(text)
+        document = json_text.loads(text)
     except json.JSONDecodeError as exc:
         raise NotJson([Problem(f"not valid JSON: {exc.msg}", exc.lineno, str(exc.colno))]) from None
     except RecursionError:  # the C decoder's answer to thousands of nested brackets
         raise NotJson([Problem("not valid JSON for a build list: nested too deeply")]) from None
-    except ValueError as exc:  # e.g. an integer of more digits than Python converts
-        raise NotJson([Problem(f"not valid JSON for a build list: {exc}")]) from None
     return read_json_document(document, max_items=max_items)
 
 

@@ -70,6 +70,9 @@ def create_app(test_config: Mapping[str, Any] | None = None) -> Flask:
         JSON_SORT_KEYS=False,
     )
     app.json.sort_keys = False
+    # werkzeug answers `//v1//plugs` with a 308 redirect (an HTML page) to the merged
+    # path; an API answers what it was asked: a 404 problem for a path it does not serve.
+    app.url_map.merge_slashes = False
 
     request_log.init_app(app)
     for unknown in config.from_environment()[1]:

@@ -45,6 +45,7 @@ from werkzeug.exceptions import HTTPException
 from schemas.fields import CANONICAL_UNITS, LENGTH_INPUT, LENGTH_INPUT_COMPONENT, Quantity
 from schemas.pages import PageMetadataSchema, PageQuerySchema
 from schemas.problem import PROBLEM_MEDIA_TYPE, ProblemSchema
+from service.formats import json_text
 from service.web import auth, problems
 
 BEARER_SCHEME = "bearerAuth"
@@ -66,14 +67,21 @@ PAGINATION_HEADER_NAME = "X-Pagination"
 
 class JsonBodyParser(FlaskParser):
     """Refuses a body sent with another content type, so a form-encoded body is a 415
-    that says what to do rather than a 422 listing every field as missing."""
+    that says what to do rather than a 422 listing every field as missing. Reads the
+    body with `service.formats.json_text`: a byte order mark is skipped, and an integer
+    of thousands of digits reaches its field, which refuses it by name."""
 
     def load_json(self, req, schema):  # type: ignore[override]
-        if not core.is_json(req.mimetype) and req.get_data(cache=True):
+        data = req.get_data(cache=True)
+        if not core.is_json(req.mimetype) and data:
             sent = f"as {req.mimetype}" if req.mimetype else "without a content type"
             problems.abort(415, f"The body was sent {sent}; send JSON with 'Content-Type: application/json'.")
+        if not core.is_json(req.mimetype) or not data.removeprefix(json_text.BYTE_ORDER_MARK.encode()):
+            return core.missing
         try:
-            return super().load_json(req, schema)
+            return json_text.loads(data)
+        except (json.JSONDecodeError, UnicodeDecodeError):
+            problems.abort(400, "The request body is not valid JSON.")
         except RecursionError:
             # json.loads recurses once per nesting level; a body nested thousands deep
             # is not a plug, and must not become a 500.

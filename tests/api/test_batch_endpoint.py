@@ -123,13 +123,27 @@ def test_a_csv_file_that_cannot_be_used_is_a_422_naming_line_and_column(client):
     (b"plug_thread\nM14\n", "text/plain", 415),
     (b"\xff\xfeplug", "text/csv", 422),
     (b"", "text/csv", 422),
-    (b'{"items": [{"ref": ' + b"9" * 5000 + b', "plug": {}, "head": {}}]}', "application/json", 400),
     (b'{"items": [{"plug": ' + b'{"a":' * 100_000 + b"1" + b"}" * 100_000 + b"}]}", "application/json", 400),
 ])
 def test_a_body_that_is_not_a_build_list_is_a_problem_not_a_500(client, body, content_type, status):
     response = client.post(URL, data=body, content_type=content_type)
     assert response.status_code == status
     assert response.mimetype == "application/problem+json"
+
+
+def test_a_number_of_thousands_of_digits_makes_its_item_invalid_naming_the_field(client):
+    """Issue 12: the decoder refuses integers over 4,300 digits, which used to refuse
+    the whole list; now the item holding one is invalid and its field is named."""
+    digits = b"9" * 5000
+    body = (b'{"items": [{"ref": ' + digits + b', "plug": {}, "head": {}}, {"ref": "r2", "plug": '
+            b'{"thread": "M14", "seat": "flat", "reach": ' + digits + b'}, "head": {"thread": "M14", "seat": "flat"}}]}')
+    response = client.post(URL, data=body, content_type="application/json")
+    assert response.status_code == 200
+    first, second = response.get_json()["results"]
+    assert first["verdict"] == second["verdict"] == "invalid"
+    assert first["errors"]["ref"] == ["a ref is a string or a whole number"]
+    assert second["errors"] == {"plug": {"reach": [
+        "must be a finite number, not NaN, infinity or a number too large to hold (above 1e308)"]}}
 
 
 def test_require_and_units_apply_to_every_item(client):
