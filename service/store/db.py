@@ -41,28 +41,56 @@ def _sqlite_tuner(timeout_s: int):
     return _tune_sqlite
 
 
-def make_engine(url: str, timeout_s: int = DEFAULT_TIMEOUT_S) -> Engine:
+def make_engine(url: str, timeout_s: int = DEFAULT_TIMEOUT_S, *, bound_statements: bool = False) -> Engine:
     """An engine for `url`; SQLite files get WAL, foreign keys and a busy timeout.
 
-    A server database that is down or unreachable must cost a request `timeout_s` at
-    most, then a 503 (service.web.problems), never a hang: the connect timeout bounds a
-    connection attempt to a silent host, the pool timeout the wait for a free
-    connection, and pre-ping replaces connections that died while pooled (a database
-    restart), so the service recovers by itself when the database is back."""
+    A server database that is down, unreachable or silent must cost a request
+    `timeout_s` at most, then a 503 (service.web.problems), never a hang: the connect
+    timeout bounds a connection attempt to a silent host, the pool timeout the wait for a
+    free connection, the lock timeout a wait on another transaction's lock, keepalives
+    and the TCP user timeout a peer gone from the network, and pre-ping replaces
+    connections that died while pooled (a database restart), so the service recovers by
+    itself when the database is back. With `bound_statements` (the app's engines, not
+    migrations, which may rightly run long) a statement may run `timeout_s` at most on
+    the server, and a connection on which the database stays silent that long is given
+    up (`service.store.stall_guard`)."""
     parsed = make_url(url)
     if parsed.get_backend_name() == "sqlite":
         database = parsed.database
         if database and database != ":memory:" and not database.startswith("file:"):
             Path(database).parent.mkdir(parents=True, exist_ok=True)
-        engine = create_engine(url, connect_args={"check_same_thread": False})
+        engine = create_engine(url, connect_args={"check_same_thread": False, "timeout": timeout_s})
         event.listen(engine, "connect", _sqlite_tuner(timeout_s))
         return engine
-    connect_args: dict = {}
-    if parsed.get_backend_name() == "postgresql":
-        # lock_timeout: a statement waiting on another transaction's lock gives up like
-        # SQLite's busy timeout does, instead of holding the request indefinitely.
-        connect_args = {"connect_timeout": timeout_s, "options": f"-c lock_timeout={int(timeout_s * 1000)}"}
-    return create_engine(url, pool_pre_ping=True, pool_timeout=timeout_s, connect_args=connect_args)
+    if parsed.get_backend_name() != "postgresql":
+        return create_engine(url, pool_pre_ping=True, pool_timeout=timeout_s)
+    engine = create_engine(url, pool_pre_ping=True, pool_timeout=timeout_s,
+                           connect_args=_postgres_connect_args(timeout_s, bound_statements))
+    if bound_statements:
+        from service.store import stall_guard
+
+        stall_guard.install(engine, timeout_s)
+    return engine
+
+
+def _postgres_connect_args(timeout_s: int, bound_statements: bool) -> dict:
+    """libpq parameters: each wait on the server bounded by `timeout_s`."""
+    milliseconds = int(timeout_s * 1000)
+    # lock_timeout: a statement waiting on another transaction's lock gives up like
+    # SQLite's busy timeout does, instead of holding the request indefinitely.
+    options = f"-c lock_timeout={milliseconds}"
+    if bound_statements:
+        options += f" -c statement_timeout={milliseconds}"
+    return {
+        "connect_timeout": timeout_s,  # libpq and psycopg take 2 s at the least
+        "options": options,
+        # A connection whose peer has gone from the network is found out while idle
+        # (keepalive probes after timeout_s, three more a third of it apart) ...
+        "keepalives": 1, "keepalives_idle": timeout_s,
+        "keepalives_interval": max(1, timeout_s // 3), "keepalives_count": 3,
+        # ... and while sending (data unacknowledged for timeout_s closes it).
+        "tcp_user_timeout": milliseconds,
+    }
 
 
 class Database:
@@ -70,7 +98,7 @@ class Database:
 
     def __init__(self, url: str, timeout_s: int = DEFAULT_TIMEOUT_S) -> None:
         self.url = url
-        self.engine = make_engine(url, timeout_s)
+        self.engine = make_engine(url, timeout_s, bound_statements=True)
         # What the parts counter derived from the plugs and heads
         # (service/store/records_cache.py), handed to every session of this database.
         self.records_cache = RecordsCache()

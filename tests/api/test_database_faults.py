@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import socket
 import threading
+import time
 from contextlib import closing
 
 import pytest
@@ -17,6 +18,7 @@ from schemas.problem import PROBLEM_MEDIA_TYPE
 from service.store import db
 from service.web import create_app
 from tests import postgres
+from tests.tcp_relay import FreezableRelay
 
 UNAVAILABLE = "tag:plugfit,2025:problem/database-unavailable"
 # A whole request must come back well within this, or the test fails instead of hanging CI.
@@ -175,3 +177,64 @@ def test_the_service_recovers_by_itself_when_the_database_comes_back(database_ur
         db.get_database(app).engine.dispose()
         if proxy.listener is not None:
             proxy.down()
+
+
+# The budget of the frozen-link test: a request that waits on a silent database gets
+# its 503 after one budget (a stalled statement or pre-ping, or the connect timeout),
+# never after two (a timed-out ping followed by a reconnection attempt) or the
+# worker's 30 s. The slack absorbs a busy machine; a second budget does not fit in it.
+FROZEN_BUDGET_S = 3
+FROZEN_SLACK_S = 1.5
+
+
+@pytest.mark.postgres
+def test_a_frozen_link_to_postgres_is_a_503_within_the_timeout_and_recovers_when_thawed(database_url, auth):
+    if postgres.server_url() is None:
+        pytest.skip("needs a PostgreSQL server (PLUGFIT_TEST_POSTGRES_URL)")
+    real = make_url(database_url)
+    relay = FreezableRelay(real.host or "127.0.0.1", real.port or 5432)
+    app = create_app({"TESTING": True, "DATABASE_TIMEOUT": FROZEN_BUDGET_S,
+                      "DATABASE_URL": real.set(host="127.0.0.1", port=relay.port).render_as_string(False)})
+    client = app.test_client()
+    by_reference = {"plug": {"sku": "FAULT-1"}, "head": FLUSH_CHECK["head"]}
+    try:
+        assert client.post("/v1/plugs", json=PLUG, headers=auth).status_code == 201
+        relay.freeze()
+        requests_that_wait = [
+            ("a read on the pooled connection", lambda: client.get("/v1/plugs/FAULT-1")),
+            ("health, connecting afresh", lambda: client.get("/v1/health")),
+            ("a list", lambda: client.get("/v1/plugs")),
+            ("a write", lambda: client.put("/v1/plugs/FAULT-1", json={**PLUG, "reach": 19.5}, headers=auth)),
+            ("a check by reference", lambda: client.post("/v1/fit-checks", json=by_reference)),
+        ]
+        for what, call in requests_that_wait:
+            started = time.monotonic()
+            response = answered(call)
+            elapsed = time.monotonic() - started
+            unavailable(response)
+            assert response.headers["Retry-After"] == "1", what
+            assert elapsed < FROZEN_BUDGET_S + FROZEN_SLACK_S, f"{what}: {elapsed:.1f} s"
+        inline = answered(lambda: client.post("/v1/fit-checks", json=FLUSH_CHECK))
+        assert inline.status_code == 200  # needs no database, so the frozen link costs it nothing
+        relay.thaw()                      # no restart: the next requests simply work
+        again = answered(lambda: client.get("/v1/plugs/FAULT-1"))
+        assert again.status_code == 200
+        assert again.get_json()["reach"] == 19.0  # the write during the freeze changed nothing
+        assert client.put("/v1/plugs/FAULT-1", json={**PLUG, "reach": 19.5}, headers=auth).status_code == 200
+    finally:
+        db.get_database(app).engine.dispose()
+        relay.stop()
+
+
+@pytest.mark.postgres
+def test_the_app_bounds_statements_on_the_server_and_migrations_do_not(database_url):
+    if postgres.server_url() is None:
+        pytest.skip("needs a PostgreSQL server (PLUGFIT_TEST_POSTGRES_URL)")
+    app = create_app({"TESTING": True, "DATABASE_URL": database_url, "DATABASE_TIMEOUT": 2})
+    with db.get_database(app).engine.connect() as connection:
+        assert connection.execute(text("SHOW statement_timeout")).scalar() == "2s"
+        assert connection.execute(text("SHOW lock_timeout")).scalar() == "2s"
+        assert connection.execute(text("SELECT 1 FROM pg_sleep(0.5)")).scalar() == 1  # well within
+    migrations = db.make_engine(database_url, 2)
+    with migrations.connect() as connection:
+        assert connection.execute(text("SHOW statement_timeout")).scalar() == "0"  # unbounded
