@@ -11,9 +11,12 @@ from typing import Any
 from marshmallow import Schema, ValidationError, fields, validate
 
 from service.fitment.model import GRADES, Dim
-from service.units import UnitError, check_finite, parse_quantity, pressure_reference
+from service.units import MAX_QUANTITY_TEXT, UnitError, check_finite, parse_quantity, pressure_reference
 
-_NUMBER_OR_STRING = [{"type": "number"}, {"type": "string"}]
+# A quantity as text follows service.units.QUANTITY_GRAMMAR; `format: quantity` names
+# it in the OpenAPI document (and lets schemathesis generate such text).
+_QUANTITY_TEXT = {"type": "string", "format": "quantity", "maxLength": MAX_QUANTITY_TEXT, "example": "0.75 in"}
+_NUMBER_OR_STRING = [{"type": "number"}, _QUANTITY_TEXT]
 # Component names of the object forms (registered by `service.web.smorest.ContractPlugin`
 # and by the answer schemas below): a request may send back what an answer holds.
 LENGTH_COMPONENT = "Length"

@@ -59,7 +59,8 @@ def make_engine(url: str, timeout_s: int = DEFAULT_TIMEOUT_S, *, bound_statement
         database = parsed.database
         if database and database != ":memory:" and not database.startswith("file:"):
             Path(database).parent.mkdir(parents=True, exist_ok=True)
-        engine = create_engine(url, connect_args={"check_same_thread": False, "timeout": timeout_s})
+        engine = create_engine(url, pool_timeout=timeout_s,
+                               connect_args={"check_same_thread": False, "timeout": timeout_s})
         event.listen(engine, "connect", _sqlite_tuner(timeout_s))
         return engine
     if parsed.get_backend_name() != "postgresql":

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from flask import Response, request, stream_with_context
+from flask import Response, request
 from flask.views import MethodView
 
 from schemas.exchange import ImportQuerySchema, ImportReportSchema
@@ -88,9 +88,17 @@ def _import(resource: str, query: dict[str, Any]) -> dict[str, Any]:
 
 def _export(resource: str) -> Response:
     fmt = stock_file.format_for(resource)
-    documents = stock.export_documents(db.session(), resource)
-    return Response(stream_with_context(stock_file.csv_lines(documents, fmt)),
-                    mimetype=stock_file.CSV_MEDIA_TYPE,
+    database = db.get_database()
+
+    def lines():
+        # The rows are read while the answer streams, after the request's own session
+        # has been closed at teardown; reading them through that session would open a
+        # new connection nothing closes (a pool exhausted after a few dozen exports).
+        # The stream's own session is closed when it ends or the server closes it.
+        with database.unit_of_work() as session:
+            yield from stock_file.csv_lines(stock.export_documents(session, resource), fmt)
+
+    return Response(lines(), mimetype=stock_file.CSV_MEDIA_TYPE,
                     headers={"Content-Disposition": f'attachment; filename="{resource}.csv"'})
 
 

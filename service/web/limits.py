@@ -13,6 +13,7 @@ from __future__ import annotations
 import io
 
 from flask import Flask, current_app, request
+from gunicorn.http.errors import ParseException
 
 from service.web import problems
 
@@ -24,7 +25,10 @@ def _buffer_unsized_body() -> None:
         # reads an unsized body as empty, so it cannot be cut short either.
         return
     limit = current_app.config["MAX_BODY_BYTES"]
-    body = environ["wsgi.input"].read(limit + 1)
+    try:
+        body = environ["wsgi.input"].read(limit + 1)
+    except (ParseException, ValueError, OSError):  # a chunk size that is not hexadecimal, a cut stream
+        problems.abort(400, "The request body is not valid chunked transfer coding.")
     if len(body) > limit:
         problems.abort(413, f"The request body is larger than the {limit} bytes this service accepts "
                             "(setting PLUGFIT_MAX_BODY_BYTES).", limit=limit)

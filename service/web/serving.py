@@ -38,6 +38,18 @@ SERVER_SETTINGS: tuple[str, ...] = (
 )
 
 
+# What gunicorn reads before the app sees a request, and refuses itself (an HTML 400,
+# the one kind of answer that is not a problem; docs/operations.md lists them). The
+# longest request plugfit's own limits allow is about 2.7 KiB of request line (a `q` of
+# 200 four-byte characters percent-encoded, or three 64-character lengths on
+# fitting-plugs) and a few short headers, so the request line gets gunicorn's ceiling
+# (8,190 bytes, twice its default) and headers their defaults: 100 fields of at most
+# 8,190 bytes each.
+LIMIT_REQUEST_LINE = 8190
+LIMIT_REQUEST_FIELDS = 100
+LIMIT_REQUEST_FIELD_SIZE = 8190
+
+
 def default_workers(cpu_count: int | None) -> int:
     """One sync worker per core and a spare: the work is CPU-bound (module docstring)."""
     return max(1, cpu_count or 1) + 1
@@ -71,6 +83,9 @@ def gunicorn_settings(environ: Mapping[str, str] | None = None, **overrides: Any
         "max_requests": settings["MAX_REQUESTS"],
         "max_requests_jitter": settings["MAX_REQUESTS_JITTER"],
         "preload_app": False,
+        "limit_request_line": LIMIT_REQUEST_LINE,
+        "limit_request_fields": LIMIT_REQUEST_FIELDS,
+        "limit_request_field_size": LIMIT_REQUEST_FIELD_SIZE,
         "accesslog": None,  # the app logs one structured line per request
         "errorlog": "-",
     }
