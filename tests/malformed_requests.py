@@ -14,19 +14,30 @@ whose refusal another issue is fixing are marked with that issue in `owner`.
 """
 from __future__ import annotations
 
+import csv
 import json
 import random
 import socket
 import time
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Any
 from urllib.parse import quote
 
-SKU = "DEMO-10F-127-FR10"           # demo shop records (seed_catalog/demo, invented)
-HEAD_ID = "DEMO-H-ASHTRELL-20"
+DEMO = Path(__file__).resolve().parent.parent / "seed_catalog" / "demo"
+
+
+def _demo_identifiers(file_name: str) -> list[str]:
+    """The first identifiers of a demo shop file (invented data; comment lines start with #)."""
+    lines = [line for line in (DEMO / file_name).read_text(encoding="utf-8").splitlines() if not line.startswith("#")]
+    return [row[0] for row in csv.reader(lines[1:3])]
+
+
+SKU, DELETED_SKU = _demo_identifiers("plugs.csv")
+HEAD_ID, DELETED_HEAD_ID = _demo_identifiers("heads.csv")
 # DELETEs remove other records, so the ones above stay for every other request.
-DELETED = {"DEMO-10F-127-FR10": "DEMO-10F-127-FR2", "DEMO-H-ASHTRELL-20": "DEMO-H-BRAMBLEWICK-90"}
+DELETED = {SKU: DELETED_SKU, HEAD_ID: DELETED_HEAD_ID}
 IMPORTS_OWNER = "issue 17 (imports rewrite)"
 
 # What a quantity field may be sent as text: issue 12's reproductions, the grammar's
