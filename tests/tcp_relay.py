@@ -19,7 +19,8 @@ import threading
 from tests.live_server import REPO
 
 
-def _pump(source: socket.socket, sink: socket.socket) -> None:
+def pump(source: socket.socket, sink: socket.socket) -> None:
+    """Copy from `source` to `sink` until either side closes."""
     try:
         while data := source.recv(65536):
             sink.sendall(data)
@@ -45,7 +46,7 @@ def relay(target_host: str, target_port: int) -> None:
             continue
         upstream.settimeout(None)
         for source, sink in ((client, upstream), (upstream, client)):
-            threading.Thread(target=_pump, args=(source, sink), daemon=True).start()
+            threading.Thread(target=pump, args=(source, sink), daemon=True).start()
 
 
 class FreezableRelay:

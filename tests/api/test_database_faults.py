@@ -18,7 +18,7 @@ from schemas.problem import PROBLEM_MEDIA_TYPE
 from service.store import db
 from service.web import create_app
 from tests import postgres
-from tests.tcp_relay import FreezableRelay
+from tests.tcp_relay import FreezableRelay, pump
 
 UNAVAILABLE = "tag:plugfit,2025:problem/database-unavailable"
 # A whole request must come back well within this, or the test fails instead of hanging CI.
@@ -142,25 +142,26 @@ class Proxy:
             with self.lock:
                 self.sockets += [client, upstream]
             for source, sink in ((client, upstream), (upstream, client)):
-                threading.Thread(target=self._pump, args=(source, sink), daemon=True).start()
+                threading.Thread(target=pump, args=(source, sink), daemon=True).start()
 
-    @staticmethod
-    def _pump(source: socket.socket, sink: socket.socket) -> None:
-        try:
-            while data := source.recv(65536):
-                sink.sendall(data)
-        except OSError:
-            pass
+
+def postgres_address(database_url: str) -> tuple[str, int]:
+    real = make_url(database_url)
+    return real.host or "127.0.0.1", real.port or 5432
+
+
+def app_through(database_url: str, relay_port: int, *, timeout_s: int):
+    """An app that reaches the test's database through a relay on `relay_port`."""
+    relayed = make_url(database_url).set(host="127.0.0.1", port=relay_port).render_as_string(False)
+    return create_app({"TESTING": True, "DATABASE_TIMEOUT": timeout_s, "DATABASE_URL": relayed})
 
 
 @pytest.mark.postgres
 def test_the_service_recovers_by_itself_when_the_database_comes_back(database_url, auth):
     if postgres.server_url() is None:
         pytest.skip("needs a PostgreSQL server (PLUGFIT_TEST_POSTGRES_URL); SQLite has no server to lose")
-    real = make_url(database_url)
-    proxy = Proxy(real.host or "127.0.0.1", real.port or 5432)
-    app = create_app({"TESTING": True, "DATABASE_TIMEOUT": 2,
-                      "DATABASE_URL": real.set(host="127.0.0.1", port=proxy.port).render_as_string(False)})
+    proxy = Proxy(*postgres_address(database_url))
+    app = app_through(database_url, proxy.port, timeout_s=2)
     client = app.test_client()
     try:
         unavailable(answered(lambda: client.get("/v1/health")))           # down from the start
@@ -191,10 +192,8 @@ FROZEN_SLACK_S = 1.5
 def test_a_frozen_link_to_postgres_is_a_503_within_the_timeout_and_recovers_when_thawed(database_url, auth):
     if postgres.server_url() is None:
         pytest.skip("needs a PostgreSQL server (PLUGFIT_TEST_POSTGRES_URL)")
-    real = make_url(database_url)
-    relay = FreezableRelay(real.host or "127.0.0.1", real.port or 5432)
-    app = create_app({"TESTING": True, "DATABASE_TIMEOUT": FROZEN_BUDGET_S,
-                      "DATABASE_URL": real.set(host="127.0.0.1", port=relay.port).render_as_string(False)})
+    relay = FreezableRelay(*postgres_address(database_url))
+    app = app_through(database_url, relay.port, timeout_s=FROZEN_BUDGET_S)
     client = app.test_client()
     by_reference = {"plug": {"sku": "FAULT-1"}, "head": FLUSH_CHECK["head"]}
     try:
