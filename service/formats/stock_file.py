@@ -33,7 +33,6 @@ from __future__ import annotations
 
 import csv
 import io
-import json
 import math
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
@@ -45,6 +44,7 @@ from marshmallow import Schema, ValidationError, fields
 from schemas.fields import Length, Quantity
 from schemas.specs import StoredHeadSchema, StoredPlugSchema
 from service.fitment.model import Dim
+from service.formats import json_text
 from service.units import KINDS
 
 CSV_MEDIA_TYPE = "text/csv"
@@ -294,7 +294,7 @@ def read_json_lines(text: str) -> Iterator[tuple[int, Any]]:
         if not line.strip():
             continue
         try:
-            yield number, json.loads(line)
+            yield number, json_text.loads(line)  # a number of thousands of digits reaches its field
         except ValueError as error:
             yield number, {ROW_ERRORS: f"not JSON: {error}"}
 

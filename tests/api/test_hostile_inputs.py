@@ -128,6 +128,13 @@ def test_a_number_of_thousands_of_digits_replacing_a_plug_is_a_422_and_changes_n
     assert client.get("/v1/plugs/HOSTILE-1").get_json()["reach"] == 19.0
 
 
+def test_a_number_of_thousands_of_digits_in_json_lines_is_a_422_naming_line_and_field(client, auth):
+    line = json.dumps({**PLUG, "reach": 0}).replace('"reach": 0', f'"reach": {HUGE}')
+    errors = problem(client.post("/v1/imports/plugs", data=line + "\n",
+                                 headers={**auth, "Content-Type": "application/x-ndjson"}), 422)["errors"]
+    assert errors == {"1": {"reach": [TOO_LARGE]}}
+
+
 def test_a_page_number_of_thousands_of_digits_is_a_422(client):
     assert list(problem(client.get("/v1/plugs", query_string={"page": HUGE}), 422)["errors"]) == ["page"]
     assert list(problem(client.get("/v1/plugs", query_string={"page_size": HUGE}), 422)["errors"]) == ["page_size"]
