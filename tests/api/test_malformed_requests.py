@@ -21,8 +21,8 @@ import pytest
 import requests
 
 from schemas.problem import PROBLEM_MEDIA_TYPE
-from tests.live_server import running_server
-from tests.malformed_requests import IMPORTS_OWNER, Answer, Case, generate, operations, send
+from tests.live_server import REPO, running_server
+from tests.malformed_requests import IMPORTS_OWNER, SERVER_OWN_IN_DOCS, Answer, Case, generate, operations, send
 
 pytestmark = pytest.mark.server
 
@@ -67,6 +67,13 @@ def fault(case: Case, answer: Answer) -> str | None:
         if problem.get("status") != answer.status:
             return f"{answer.status}: the problem says status {problem.get('status')!r}"
     return None
+
+
+def test_every_refusal_counted_as_the_http_servers_own_is_listed_in_the_docs():
+    text = (REPO / "docs" / "operations.md").read_text()
+    section = text.split("### Answers from the HTTP server", 1)[1].split("\n### ", 1)[0]
+    missing = [kind for kind, words in SERVER_OWN_IN_DOCS.items() if words not in section]
+    assert not missing, f"docs/operations.md does not list these answers of gunicorn's: {missing}"
 
 
 def test_every_operation_of_the_document_has_requests_to_spoil(document):
