@@ -31,8 +31,9 @@ class DatabaseStalled(psycopg.OperationalError):
 class StallGuardedConnection(psycopg.Connection):
     stall_limit_s: float = 5.0
 
-    def wait(self, gen: Any, interval: float = 0.1, timeout: float | None = None) -> Any:
-        return super().wait(self._watched(gen), interval, timeout)
+    def wait(self, gen: Any, *args: Any, **kwargs: Any) -> Any:
+        # psycopg's own arguments (the polling interval, a timeout) pass through as given.
+        return super().wait(self._watched(gen), *args, **kwargs)
 
     def _watched(self, gen: Generator) -> Generator:
         """Relays `gen` to psycopg's waiting loop, which sends it a readiness value at
