@@ -76,8 +76,8 @@ def running_server(database_url: str, directory: Path, *, seed_demo: bool = Fals
             try:
                 if requests.get(server.base_url + "/v1/health", timeout=2).status_code == 200:
                     break
-            except requests.ConnectionError:
-                pass
+            except (requests.ConnectionError, requests.Timeout):
+                pass  # not listening yet, or a worker still starting on a busy machine
             if time.monotonic() > deadline:
                 raise AssertionError(f"plugfit serve did not answer within 60 s: {server.log_tail()}")
             time.sleep(0.2)
