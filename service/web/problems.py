@@ -14,6 +14,7 @@ from typing import Any, NoReturn
 
 from flask import Flask, Response, current_app, json
 from sqlalchemy.exc import OperationalError
+from sqlalchemy.orm.exc import StaleDataError
 from webargs.flaskparser import abort as _webargs_abort
 from werkzeug.exceptions import HTTPException, InternalServerError
 
@@ -176,6 +177,10 @@ def init_app(app: Flask) -> None:
     # A locked SQLite file (a long write elsewhere) or a database that went away is not
     # a fault of the request: 503 with Retry-After tells a client to try again.
     app.register_error_handler(OperationalError, _handle_database_unavailable)
+    # A version-guarded UPDATE or DELETE that matched no row: another writer committed
+    # between this request's read and its write (an import racing a PUT, say). Nothing
+    # was written (the request's transaction is rolled back); the client reads again.
+    app.register_error_handler(StaleDataError, _handle_changed_meanwhile)
     # An exception escaping a view reaches Flask as InternalServerError(original_exception=…);
     # registering the base class as well covers errors raised outside the view.
     app.register_error_handler(Exception, _handle_unexpected)
@@ -185,6 +190,11 @@ def _handle_database_unavailable(error: OperationalError) -> Response:
     log.error("database unavailable", extra={"fields": {"error": str(error.orig)[:200]}})
     return problem_response(503, "The database is busy or unreachable; retry shortly.",
                             slug="database-unavailable", headers={"Retry-After": "1"})
+
+
+def _handle_changed_meanwhile(_error: StaleDataError) -> Response:
+    return problem_response(409, "A record this request changes was changed by another request while it ran; "
+                                 "nothing was written. Read it again and retry.")
 
 
 def _handle_unexpected(error: Exception) -> Response:

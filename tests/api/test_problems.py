@@ -119,6 +119,22 @@ def test_an_unhandled_exception_is_a_500_problem_without_a_stack_trace(app, capl
     assert any("RuntimeError" in (record.exc_text or "") or record.exc_info for record in caplog.records)
 
 
+def test_a_write_that_lost_a_race_is_a_409_problem_not_a_500(app):
+    """An import racing a PUT on the same plug (the malformed-request run found it): the
+    import's version-guarded UPDATE matches no row; nothing is written, the client retries."""
+    from sqlalchemy.orm.exc import StaleDataError
+
+    def lose_the_race():
+        raise StaleDataError("UPDATE statement on table 'plugs' expected to update 1 row(s); 0 were matched.")
+
+    app.add_url_rule("/v1/race", "race", lose_the_race)  # a GET: no key needed to reach it
+    response = app.test_client().get("/v1/race")
+    assert response.status_code == 409
+    assert response.mimetype == PROBLEM_MEDIA_TYPE
+    assert response.get_json()["type"] == "tag:plugfit,2025:problem/conflict"
+    assert "retry" in response.get_json()["detail"]
+
+
 def test_a_body_nested_thousands_deep_is_a_400_problem_not_a_500(client):
     response = client.post("/v1/fit-checks", data="[" * 100_000 + "]" * 100_000, content_type="application/json")
     assert response.status_code == 400
