@@ -106,7 +106,8 @@ class ContractPlugin(BasePlugin):
         components.parameter(IF_MATCH, "header", {
             "name": "If-Match", "required": False, "schema": {"type": "string"},
             "description": "The ETag of a GET. When sent, the change is refused with 412 if the record "
-                           "changed since; when left out, the change is made unconditionally."})
+                           "changed since; when left out, the change is made unless another write got there "
+                           "first (409: read again and retry)."})
         components.parameter(IF_NONE_MATCH, "header", {
             "name": "If-None-Match", "required": False, "schema": {"type": "string"},
             "description": "An ETag you hold; 304 without a body when the record still has it."})
