@@ -265,7 +265,7 @@ class Generator:
         media_type, example = self._body(operation)
         media_type = media_type or "application/json"
         good = example.encode() if isinstance(example, str) else _encode(example if example is not None else {})
-        choices: list[tuple[str, bytes, str | None]] = [  # (what, body, "deep" for nesting)
+        choices: list[tuple[str, bytes, str | None]] = [  # (what, body, a kind owned elsewhere on imports)
             ("cut short", good[: self.rng.randrange(max(1, len(good)))], None),
             ("byte order mark", b"\xef\xbb\xbf" + good, None),
             ("not UTF-8", good[:5] + b"\xff\xfe\xc3\x28" + good[5:], None),
@@ -275,17 +275,19 @@ class Generator:
             ("NaN literal", b'{"plug": NaN, "head": Infinity}', None),
             ("nested 10,000 deep", b"[" * 10_000 + b"]" * 10_000, "deep"),
             ("objects nested 10,000 deep", b'{"a":' * 10_000 + b"1" + b"}" * 10_000, "deep"),
-            ("1 MiB of white space", good + b" " * (1 << 20), None),
+            ("1 MiB of white space", good + b" " * (1 << 20), "huge cell"),
             ("duplicate keys", b'{"items": [], "items": [], "plug": 1, "plug": 2}', None),
             ("UTF-16", json.dumps(example).encode("utf-16") if example is not None else b"\xff\xfe", None),
             ("a NUL byte", good[:3] + b"\x00" + good[3:], None),
         ]
-        mutation, body, deep = self.rng.choice(choices)
+        mutation, body, kind = self.rng.choice(choices)
         if self.rng.random() < 0.25:
             media_type = self.rng.choice(CONTENT_TYPES)
             mutation += f" as {media_type!r}"
-        # Deep JSON lines on an import: issue 12 item 3, which the imports rewrite fixes.
-        owner = IMPORTS_OWNER if deep and "/imports/" in operation.path and "json" in media_type else None
+        # Issue 12 items 3 and 4, which the imports rewrite fixes: deep JSON lines, and a
+        # CSV cell over the csv module's 131,072 characters (white space on the last line).
+        owned = {"deep": "json", "huge cell": "csv"}.get(kind or "")
+        owner = IMPORTS_OWNER if owned and "/imports/" in operation.path and owned in media_type else None
         return self._case(operation, f"body {mutation}", media_type=media_type, body=body, owner=owner)
 
     # One CSV cell (batch and import bodies) gets a hostile value.
