@@ -15,7 +15,7 @@ from flask import Flask
 
 from service import config
 from service.store import db
-from service.web import auth, limits, problems, reference, request_log
+from service.web import auth, limits, nul_characters, problems, reference, request_log
 from service.web.smorest import Api
 
 API_TITLE = "plugfit"
@@ -85,6 +85,7 @@ def create_app(test_config: Mapping[str, Any] | None = None) -> Flask:
     api = Api(app)
     problems.init_app(app)
     limits.init_app(app)
+    nul_characters.init_app(app)
     register_blueprints(api)
     app.register_blueprint(reference.blp)
     app.extensions["plugfit.api"] = api

@@ -46,7 +46,7 @@ from schemas.fields import CANONICAL_UNITS, LENGTH_INPUT, LENGTH_INPUT_COMPONENT
 from schemas.pages import PageMetadataSchema, PageQuerySchema
 from schemas.problem import PROBLEM_MEDIA_TYPE, ProblemSchema
 from service.formats import json_text
-from service.web import auth, problems
+from service.web import auth, nul_characters, problems
 
 BEARER_SCHEME = "bearerAuth"
 JSON_MEDIA_TYPE = "application/json"
@@ -79,13 +79,18 @@ class JsonBodyParser(FlaskParser):
         if not core.is_json(req.mimetype) or not data.removeprefix(json_text.BYTE_ORDER_MARK.encode()):
             return core.missing
         try:
-            return json_text.loads(data)
+            document = json_text.loads(data)
         except (json.JSONDecodeError, UnicodeDecodeError):
             problems.abort(400, "The request body is not valid JSON.")
         except RecursionError:
             # json.loads recurses once per nesting level; a body nested thousands deep
             # is not a plug, and must not become a 500.
             problems.abort(400, "The request body is nested too deeply to read.")
+        if b"\\u0000" in data:  # JSON writes NUL only as this escape; the walk names the fields
+            paths = list(nul_characters.nul_paths(document))
+            if paths:
+                problems.abort(422, "A field holds a NUL character.", errors=nul_characters.errors_at(paths))
+        return document
 
 
 # --- the OpenAPI document ------------------------------------------------------------------

@@ -218,7 +218,7 @@ def test_a_frozen_link_to_postgres_is_a_503_within_the_timeout_and_recovers_when
         relay.thaw()                      # no restart: the next requests simply work
         again = answered(lambda: client.get("/v1/plugs/FAULT-1"))
         assert again.status_code == 200
-        assert again.get_json()["reach"] == 19.0  # the write during the freeze changed nothing
+        assert again.get_json()["reach"]["value"] == 19.0  # the write during the freeze changed nothing
         assert client.put("/v1/plugs/FAULT-1", json={**PLUG, "reach": 19.5}, headers=auth).status_code == 200
     finally:
         db.get_database(app).engine.dispose()

@@ -154,6 +154,23 @@ def test_a_json_body_after_a_byte_order_mark_is_read(client, auth):
     assert batch.status_code == 200
 
 
+def test_text_with_a_nul_character_is_refused_before_the_database_on_both(client, auth):
+    """PostgreSQL cannot hold NUL in text (psycopg refused the parameter: a 500); SQLite
+    would store it. Refused alike on both, naming where it was."""
+    message = ["holds a NUL character (U+0000), which cannot be stored; remove it"]
+    problem(client.get("/v1/plugs/%00"), 404)
+    problem(client.get("/v1/heads/a%00b/fitting-plugs"), 404)
+    assert problem(client.get("/v1/heads", query_string={"q": "a\x00"}), 422)["errors"] == {"q": message}
+    stored = client.post("/v1/plugs", json={**PLUG, "description": "a\u0000b", "heat_range": {"scale": "x\u0000",
+                                                                                                "value": 5}},
+                         headers=auth)
+    assert problem(stored, 422)["errors"] == {"description": message, "heat_range": {"scale": message}}
+    imported = client.post("/v1/imports/plugs", headers={**auth, "Content-Type": "text/csv"},
+                           data="sku,thread,seat,reach_mm,description\nN-2,M14x1.25,flat,19,a\x00b\n")
+    assert problem(imported, 422)["errors"] == {"line 2": message}
+    assert client.get("/v1/plugs/HOSTILE-1").status_code == 404 and client.get("/v1/plugs/N-2").status_code == 404
+
+
 def test_merged_slashes_are_a_404_problem_not_a_redirect(client):
     # (a path starting with // is a host to the test client; the real-server test below sends one)
     for path in ("/v1//plugs", "/v1/plugs//HOSTILE-1", "/v1///health"):
