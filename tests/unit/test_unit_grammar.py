@@ -44,13 +44,14 @@ def reading_before_the_grammar(text: str, kind_name: str) -> float:
 
 
 def mixed_number_value(text: str, kind_name: str) -> float | None:
-    """What a mixed number means (`1 1/4 in` = 1.25 in), or None for any other text."""
+    """What a mixed number means, read as its decimal would be (`1 1/4 in` as `1.25 in`,
+    so offset units such as degF are read alike), or None for any other text."""
     kind = KINDS[kind_name]
     match = QUANTITY_GRAMMAR.fullmatch(units._normalise(text, kind))
     if match is None or match["whole"] is None:
         return None
     magnitude = int(match["whole"]) + int(match["numerator"]) / int(match["denominator"])
-    return units.convert(-magnitude if match["sign"] == "-" else magnitude, match["unit"], kind.canonical)
+    return reading_before_the_grammar(f"{match['sign']}{magnitude!r} {match['unit']}", kind_name)
 
 
 def fastest_refusal(text: str, kind: str) -> float:
