@@ -89,16 +89,20 @@ _GENERAL_SPELLINGS = [
 # A pressure string may say which zero it counts from: "15 psig", "2.5 bara", "1.5 bar gauge",
 # "250 kPa (absolute)". The marker is split off before the unit is read; the field it was
 # given in decides whether the reading is gauge or absolute, and refuses the other.
-_PRESSURE_REFERENCE_WORD = re.compile(r"\s*\(?\s*\b(gauge|gage|absolute|abs)\b\.?\s*\)?\s*$", re.IGNORECASE)
+_PRESSURE_REFERENCE_WORD = re.compile(r"\(?\s*\b(gauge|gage|absolute|abs)\b\.?\s*\)?\s*$", re.IGNORECASE)
 _PRESSURE_REFERENCE_SUFFIX = re.compile(r"\b(psi|bar)([ag])\s*$", re.IGNORECASE)
 
 
 def pressure_reference(text: str) -> tuple[str, str | None]:
     """A pressure string without its gauge/absolute marker, and the marker's meaning
-    ("gauge", "absolute", or None when it says neither): "15 psig" -> ("15 psi", "gauge")."""
+    ("gauge", "absolute", or None when it says neither): "15 psig" -> ("15 psi", "gauge").
+    Text over the quantity cap is left whole for `parse_quantity` to refuse: a search from
+    every position of a long run of spaces costs time that grows with its length."""
+    if len(text) > MAX_QUANTITY_TEXT:
+        return text, None
     word = _PRESSURE_REFERENCE_WORD.search(text)
     if word:
-        return text[:word.start()], "absolute" if word.group(1).lower().startswith("abs") else "gauge"
+        return text[:word.start()].rstrip(), "absolute" if word.group(1).lower().startswith("abs") else "gauge"
     suffix = _PRESSURE_REFERENCE_SUFFIX.search(text)
     if suffix:
         return text[:suffix.start()] + suffix.group(1), "absolute" if suffix.group(2).lower() == "a" else "gauge"

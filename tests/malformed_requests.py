@@ -50,6 +50,7 @@ HOSTILE_QUANTITIES = [
     "19 µm", "19 μm", "45 °C", "45 deg C", "18 lbs.ft", "25 N m", "1 in**2/in", "19 mm²", "1_000 mm", "0x13 mm",
     "19 kg", "19 mm; DROP TABLE plugs", "=HYPERLINK(\"http://example.invalid\")", "{}", "[]", "%s%s%n", "\\",
     "19 " + "m" * 60, "1e-400 mm", "-19 mm", "19 parsec", "19 mm / 0", "1 __class__", "19 mm.__dict__",
+    "15 psig", "2.5 bara", "1.5 bar (gauge)", " " * 3000 + "1 bar gauge", "1" + " " * 3000 + "x",
 ]
 # JSON numbers written as raw text (the standard encoder will not even write the first).
 HUGE_NUMBERS = [

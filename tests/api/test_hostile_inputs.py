@@ -85,6 +85,18 @@ def test_every_place_a_unit_string_is_read_refuses_an_expression_by_name(client,
     assert client.get("/v1/plugs/HOSTILE-2").status_code == 404
 
 
+@pytest.mark.parametrize("text", [" " * 100_000 + "x", "1" + " " * 100_000 + "bar gauge"])
+def test_a_long_pressure_text_is_refused_by_the_cap_before_any_pattern_runs(client, text):
+    """The gauge/absolute marker's pattern took 8 s on 1,000 spaces (time growing with the
+    cube of the length); the 64-character cap now comes first."""
+    response, elapsed = timed(lambda: client.post("/v1/fit-checks", json={
+        "plug": {"thread": "M14", "seat": "flat", "reach": 19},
+        "head": {"thread": "M14", "seat": "flat", "intake_pressure": text}}))
+    errors = problem(response, 422)["errors"]
+    assert errors["head"]["intake_pressure"][0].startswith("a pressure written as text may be at most 64 characters")
+    assert elapsed < REFUSED_WELL_WITHIN_S
+
+
 def test_the_command_line_refuses_an_expression_naming_the_option(runner):
     result = runner.invoke("check", "--plug-thread", "M14", "--plug-seat", "flat", "--plug-reach", "9**9**8 mm",
                            "--head-thread", "M14", "--head-seat", "flat")
