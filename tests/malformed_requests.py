@@ -51,6 +51,7 @@ HOSTILE_QUANTITIES = [
     "19 kg", "19 mm; DROP TABLE plugs", "=HYPERLINK(\"http://example.invalid\")", "{}", "[]", "%s%s%n", "\\",
     "19 " + "m" * 60, "1e-400 mm", "-19 mm", "19 parsec", "19 mm / 0", "1 __class__", "19 mm.__dict__",
     "15 psig", "2.5 bara", "1.5 bar (gauge)", " " * 3000 + "1 bar gauge", "1" + " " * 3000 + "x",
+    "M14" + " " * 20_000 + "y", "1" + " " * 3000 + "± x",
 ]
 # JSON numbers written as raw text (the standard encoder will not even write the first).
 HUGE_NUMBERS = [

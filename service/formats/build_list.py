@@ -44,7 +44,7 @@ from schemas.batch import BatchRequestSchema
 from schemas.fields import Length, Quantity
 from schemas.specs import HeadInputSchema, OptionsSchema, PlugInputSchema
 from service.formats import json_text
-from service.units import KINDS, UnitError, parse_quantity
+from service.units import KINDS, MAX_QUANTITY_TEXT, UnitError, parse_quantity
 
 CSV_MEDIA_TYPES = frozenset({"text/csv", "application/csv"})
 # Columns that are not fields: the line's label, free text, and its waivers.
@@ -195,6 +195,10 @@ _LIST_SEPARATORS = re.compile(r"[,;\s]+")
 def _toleranced(text: str, header_unit: str | None) -> dict[str, Any] | None:
     """`19 ± 0.2`, `0.75 in +0.004/-0.002` as the schema's object form; None if neither."""
     if "±" not in text and "+" not in text:  # most cells: no tolerance, no regex
+        return None
+    if len(text) > MAX_QUANTITY_TEXT:
+        # The patterns' space runs backtrack (1,000 spaces cost seconds); a cell this long
+        # is no toleranced length, and parse_quantity refuses it with the cap's message.
         return None
     match = _SYMMETRIC.match(text) or _ASYMMETRIC.match(text)
     if match is None:

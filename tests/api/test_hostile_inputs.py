@@ -97,6 +97,23 @@ def test_a_long_pressure_text_is_refused_by_the_cap_before_any_pattern_runs(clie
     assert elapsed < REFUSED_WELL_WITHIN_S
 
 
+def test_long_runs_of_spaces_never_reach_a_backtracking_pattern(client):
+    """A thread of 20,000 spaces cost 1.4 s (the designation pattern), a batch cell of
+    1,000 spaces and a ± 2.2 s (the tolerance pattern); both grow faster than the text."""
+    spaces = " " * 100_000
+    thread, elapsed = timed(lambda: client.post("/v1/fit-checks", json={
+        "plug": {"thread": "M14" + spaces + "y", "seat": "flat"}, "head": {"thread": "M14", "seat": "flat"}}))
+    assert problem(thread, 422)["errors"]["plug"]["thread"] == [
+        "a thread designation has at most 32 characters, such as M14x1.25"]
+    assert elapsed < REFUSED_WELL_WITHIN_S
+    cell, elapsed = timed(lambda: client.post("/v1/fit-checks/batch", content_type="text/csv", data=(
+        "plug_thread,plug_seat,plug_reach,head_thread,head_seat\n"
+        f"M14,flat,1{spaces}± x,M14,flat\n")))
+    (item,) = cell.get_json()["results"]
+    assert item["verdict"] == "invalid" and list(item["errors"]) == ["plug_reach"]
+    assert elapsed < REFUSED_WELL_WITHIN_S
+
+
 def test_the_command_line_refuses_an_expression_naming_the_option(runner):
     result = runner.invoke("check", "--plug-thread", "M14", "--plug-seat", "flat", "--plug-reach", "9**9**8 mm",
                            "--head-thread", "M14", "--head-seat", "flat")
