@@ -6,7 +6,7 @@ from webargs.fields import DelimitedList
 
 from service.fitment.codes import FINDING_CODES
 from service.fitment.defaults import STACKS
-from service.fitment.interchange import THREAD_END_TOLERANCE_MM, TIP_TOLERANCE_MM
+from service.fitment.search import THREAD_END_TOLERANCE_MM, TIP_TOLERANCE_MM
 
 from .answers import PlugSchema
 from .fields import Choice, Quantity, QuantitySchema
@@ -41,6 +41,10 @@ class FittingPlugsQuerySchema(StockFilterSchema):
                              metadata={"description": "default 1.5 mm (common practice)"})
     flush_tolerance = Quantity("length", minimum=0.0, maximum=10.0, bare_unit="mm",
                                metadata={"description": "default 0.5 mm (common practice)"})
+    max_protrusion = Quantity("length", minimum=0.0, maximum=10.0, bare_unit="mm", metadata={
+        "description": "REACH_LONG fails above it; default one pitch of the head's thread"})
+    max_recess = Quantity("length", minimum=0.0, maximum=20.0, bare_unit="mm", metadata={
+        "description": "REACH_SHORT fails below minus it; default two pitches of the head's thread"})
     dynamic_allowance = Quantity("length", minimum=0.0, maximum=10.0, bare_unit="mm",
                                  metadata={"description": "default 0 mm"})
 
@@ -97,8 +101,13 @@ class DifferencesSchema(Schema):
     tip = fields.Nested(QuantitySchema, allow_none=True, required=True, metadata={
         "description": "tip position, candidate minus original; null when neither gives a firing end"})
     terminal_top = fields.Nested(QuantitySchema, allow_none=True, required=True, metadata={
-        "description": "terminal top above the seat face, candidate minus original (not a criterion: "
-                       "the boot check against the head decides); null when a terminal height is missing"})
+        "description": "terminal top above the seat face, candidate minus original (ranks candidates, "
+                       "decides nothing: the boot check against the head does); null when a terminal height "
+                       "is missing"})
+    heat_range = fields.Nested(QuantitySchema, allow_none=True, required=True, metadata={
+        "description": "heat range, candidate minus original, when both are on the same named scale (ranks "
+                       "candidates, decides nothing: which way a scale counts is the maker's); null when a heat "
+                       "range is missing or the scales differ: scales are never mapped onto each other"})
 
 
 class InterchangeSchema(CounterLineSchema):
@@ -109,3 +118,6 @@ class InterchangeSchema(CounterLineSchema):
     differences = fields.Nested(DifferencesSchema, required=True)
     hex_differs = fields.Boolean(allow_none=True, required=True, metadata={
         "description": "true: another hex family than the original (have the socket); null: a hex is unknown"})
+    cautions = fields.List(fields.String(), required=True, metadata={
+        "description": "compared by dimensions only: heat-range differences are shown, not judged, and the gap "
+                       "is not compared; the engine maker's data comes first"})

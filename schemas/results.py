@@ -7,6 +7,8 @@ writes it (plain Python and orjson rather than a marshmallow dump, because a bat
 """
 from __future__ import annotations
 
+from typing import Any
+
 from marshmallow import Schema, fields, validate
 
 from service.fitment.checks import CHECK_NAMES
@@ -18,7 +20,7 @@ from .fields import QuantitySchema
 VERDICTS = ("pass", "warn", "fail")
 SEVERITIES = ("info", "warn", "fail")
 UNIT_SYSTEMS = ("metric", "imperial")
-GEOMETRY_ENTRIES = ("thread_protrusion", "thread_recess", "tip_position", "piston_margin", "valve_margin")
+GEOMETRY_ENTRIES = ("protrusion_short_side", "protrusion_long_side", "tip_position", "piston_margin", "valve_margin")
 
 
 class FindingSchema(Schema):
@@ -46,11 +48,35 @@ class GeometryEntrySchema(Schema):
 
 
 class GeometrySchema(Schema):
-    thread_protrusion = fields.Nested(GeometryEntrySchema)
-    thread_recess = fields.Nested(GeometryEntrySchema)
-    tip_position = fields.Nested(GeometryEntrySchema)
-    piston_margin = fields.Nested(GeometryEntrySchema)
-    valve_margin = fields.Nested(GeometryEntrySchema)
+    protrusion_short_side = fields.Nested(GeometryEntrySchema, metadata={
+        "description": "thread end minus port depth (short side): positive, plug threads stand into the chamber; "
+                       "negative, head threads are left bare. REACH_SHORT reads its low bound"})
+    protrusion_long_side = fields.Nested(GeometryEntrySchema, metadata={
+        "description": "thread end minus the long side's port depth; equals protrusion_short_side on a flat roof. "
+                       "REACH_LONG reads its high bound"})
+    tip_position = fields.Nested(GeometryEntrySchema, metadata={"description": "from the seat face"})
+    piston_margin = fields.Nested(GeometryEntrySchema, metadata={
+        "description": "the smaller, bound by bound, of the electrode tip's and the shell edge's margins to the "
+                       "piston crown (analysis.piston says which governs)"})
+    valve_margin = fields.Nested(GeometryEntrySchema, metadata={"description": "the electrode tip's"})
+
+
+_QUANTITY_JSON_SCHEMA = {"type": "object", "required": ["value", "unit"],
+                         "properties": {"value": {"type": "number"}, "unit": {"type": "string"}}}
+
+
+class AnalysisEntry(fields.Field):
+    """One computed quantity (`{"value", "unit"}`), or a name such as the piston margin's
+    governing feature."""
+
+    def __init__(self, **kwargs: Any) -> None:
+        metadata = {"oneOf": [_QUANTITY_JSON_SCHEMA, {"type": "string"}], **kwargs.pop("metadata", {})}
+        super().__init__(metadata=metadata, **kwargs)
+
+    def _deserialize(self, value: Any, attr: str | None, data: Any, **kwargs: Any) -> Any:
+        if isinstance(value, str):
+            return value
+        return QuantitySchema().load(value)
 
 
 class TorqueSchema(Schema):
@@ -73,8 +99,11 @@ class FitResultSchema(Schema):
     findings = fields.List(fields.Nested(FindingSchema), required=True)
     geometry = fields.Nested(GeometrySchema, required=True)
     analysis = fields.Dict(keys=fields.String(),
-                           values=fields.Dict(keys=fields.String(), values=fields.Nested(QuantitySchema)),
-                           required=True)
+                           values=fields.Dict(keys=fields.String(), values=AnalysisEntry()),
+                           required=True, metadata={
+                               "description": "what each check computed: quantities, and for the piston check its "
+                                              "governing_feature (tip or shell_edge), tip_margin and "
+                                              "shell_edge_margin at the bound the verdict reads"})
     torque = fields.Nested(TorqueSchema, allow_none=True, required=True)
     assumptions = fields.List(fields.String(), required=True)
     cautions = fields.List(fields.String(), required=True)

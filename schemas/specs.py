@@ -13,7 +13,7 @@ from marshmallow import RAISE, Schema, ValidationError, fields, validate, valida
 
 from service.fitment.catalog import MATERIALS, SEATS
 from service.fitment.checks import CHECK_NAMES
-from service.fitment.defaults import LUBRICATIONS, STACKS
+from service.fitment.defaults import GASKET_CONDITIONS, LUBRICATIONS, STACKS
 from service.fitment.designation import format_designation, parse_designation
 from service.fitment.model import HeatRange, HeatRangeBand, Options, PlugSpec, PortSpec, Span
 
@@ -31,6 +31,9 @@ MAX_FIRING_END_MM = 20.0
 MAX_PORT_MM = 120.0
 MAX_CLEARANCE_MM = 250.0
 HEX_RANGE_MM = (8.0, 40.0)
+# A plug leaning further than this from the cylinder axis is a side plug, whose piston
+# clearance needs another model than a flat crown square to the cylinder axis.
+MAX_INCLINATION_DEG = 75.0
 
 
 def _catalog():
@@ -198,6 +201,11 @@ class PortDimensionsSchema(Schema):
     seat_to_piston = Length(maximum=MAX_CLEARANCE_MM)
     valve_clearance = Length(maximum=MAX_CLEARANCE_MM)
     seat_to_valve = Length(maximum=MAX_CLEARANCE_MM)
+    plug_inclination = Quantity("angle", minimum=0.0, maximum=MAX_INCLINATION_DEG, bare_unit="deg", allow_none=True,
+                                metadata={"description": "angle between the plug axis and the cylinder axis; the low "
+                                          "edge of the shell's thread end then comes r·tan(angle) nearer a flat crown "
+                                          "than the plug axis does (r: half the thread's diameter). Default 0",
+                                          "example": 15.0})
     well_bore = Quantity("length", minimum=5.0, maximum=200.0, bare_unit="mm",
                          metadata={"description": "smallest bore of the plug well the socket must pass"})
     hex = Quantity("length", minimum=HEX_RANGE_MM[0], maximum=HEX_RANGE_MM[1], bare_unit="mm",
@@ -280,6 +288,18 @@ class OptionsSchema(Schema):
                              metadata={"description": "default 1.5 mm (common practice)"})
     flush_tolerance = Quantity("length", minimum=0.0, maximum=10.0, bare_unit="mm",
                                metadata={"description": "default 0.5 mm (common practice)"})
+    max_protrusion = Quantity("length", minimum=0.0, maximum=10.0, bare_unit="mm", metadata={
+        "description": "REACH_LONG fails when the plug's threads stand further than this into the chamber (long "
+                       "side, worst case); default one pitch of the port's thread"})
+    max_recess = Quantity("length", minimum=0.0, maximum=20.0, bare_unit="mm", metadata={
+        "description": "REACH_SHORT fails when the thread end stops further than this short of the chamber "
+                       "(short side, worst case); default two pitches of the port's thread"})
+    gasket_condition = Choice(GASKET_CONDITIONS, {"re-used": "reused", "used": "reused"}, metadata={
+        "description": "new (default) or reused: a re-used gasket is already crushed, so it sits thinner (a further "
+                       "1/12 turn of the plug's pitch) and takes the smaller turn angle. Alias: re-used"})
+    indexing_washer = Quantity("length", minimum=0.0, maximum=MAX_GASKET_MM, bare_unit="mm", metadata={
+        "description": "thickness of an indexing washer under a flat-seat plug's gasket: added to the stack (the "
+                       "plug sits that much further out) and noted for its longer heat path"})
     dynamic_allowance = Quantity("length", minimum=0.0, maximum=10.0, bare_unit="mm",
                                  metadata={"description": "default 0 mm"})
     stack = Choice(STACKS, {"worst-case": "worst_case", "worstcase": "worst_case"})
@@ -310,7 +330,7 @@ _PORT_RENAMED = (("intake_pressure", "intake_pressure_bar"), ("boost_pressure", 
                  ("intake_temperature", "intake_temperature_k"),
                  ("peak_pressure", "peak_pressure_bar"), ("ignition_voltage", "ignition_voltage_kv"),
                  ("bore", "bore_mm"), ("stroke", "stroke_mm"), ("rod_length", "rod_length_mm"),
-                 ("spark_advance", "spark_advance_deg"))
+                 ("spark_advance", "spark_advance_deg"), ("plug_inclination", "plug_inclination_deg"))
 
 
 def plug_spec(data: dict) -> PlugSpec:
@@ -337,6 +357,8 @@ def options_from(data: dict | None) -> Options:
     data = data or {}
     return Options(
         min_clearance=data.get("min_clearance"), flush_tolerance=data.get("flush_tolerance"),
+        max_protrusion=data.get("max_protrusion"), max_recess=data.get("max_recess"),
+        gasket_condition=data.get("gasket_condition") or "new", indexing_washer=data.get("indexing_washer"),
         dynamic_allowance=data.get("dynamic_allowance"), stack=data.get("stack") or "worst_case",
         torque=data.get("torque"), lubrication=data.get("lubrication"), gap=data.get("gap"),
         require=frozenset(data.get("require") or ()))

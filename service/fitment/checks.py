@@ -18,6 +18,7 @@ from typing import NamedTuple
 from .context import FitContext, Skip, skip_reason
 from .defaults import CAUTIONS_WITH_ANTI_SEIZE
 from .designation import parse_designation
+from .geometry import SHELL_EDGE, TIP
 from .model import SourcedValue, Value, least_sure
 from .spark import (
     STANDARD_INTAKE_PRESSURE_BAR,
@@ -78,21 +79,31 @@ _HEX_NOT_GIVEN = skip_reason("hex", "needs the plug's hex and the hex the head's
 _RESISTOR_UNKNOWN = skip_reason("resistor", "the head does not say whether a resistor plug is required")
 _RESISTOR_NOT_SAID = skip_reason("resistor", "the head requires a resistor plug and the plug does not say if it "
                                              "has one")
-_THREAD_STRENGTH_OTHER_THREAD = skip_reason("thread_strength", "it needs a plug of the port's own thread and seat")
+_THREAD_STRENGTH_NO_PITCH = skip_reason("thread_strength", "the port's thread designation gives no pitch")
 
 
 def check_thread(ctx: FitContext) -> None:
     plug, port = ctx.plug.thread, ctx.port.thread
     if plug == port:
         return
-    plug_numbers = parse_designation(plug) or (0.0, 0.0)
-    port_numbers = parse_designation(port) or (0.0, 0.0)
-    differs = "diameter" if plug_numbers[0] != port_numbers[0] else "pitch"
-    ctx.add("THREAD_MISMATCH", "thread", "fail",
-            f"The plug's thread {plug} does not match the port's {port} (the {differs} "
-            "differs): it cannot be screwed in without damaging the head's threads.",
-            plug_diameter=(plug_numbers[0], LENGTH), plug_pitch=(plug_numbers[1] or 0.0, LENGTH),
-            port_diameter=(port_numbers[0], LENGTH), port_pitch=(port_numbers[1] or 0.0, LENGTH))
+    plug_numbers, port_numbers = parse_designation(plug), parse_designation(port)
+    if plug_numbers is None or port_numbers is None:
+        ctx.add("THREAD_MISMATCH", "thread", "fail",
+                f"The plug's thread {plug} does not match the port's {port}: it cannot be fitted.")
+        return
+    (plug_diameter, plug_pitch), (port_diameter, port_pitch) = plug_numbers, port_numbers
+    if plug_diameter < port_diameter:
+        message = (f"The plug's thread {plug} is smaller than the port's {port}: it does not engage the head's "
+                   "thread at all and cannot be fitted.")
+    elif plug_diameter > port_diameter:
+        message = (f"The plug's thread {plug} is larger than the port's {port}: it does not start in the port, "
+                   "and forcing it in damages the head's threads.")
+    else:
+        message = (f"The plug's thread {plug} has another pitch than the port's {port}: it starts, then "
+                   "cross-threads and damages the head's threads.")
+    ctx.add("THREAD_MISMATCH", "thread", "fail", message,
+            plug_diameter=(plug_diameter, LENGTH), plug_pitch=(plug_pitch or 0.0, LENGTH),
+            port_diameter=(port_diameter, LENGTH), port_pitch=(port_pitch or 0.0, LENGTH))
 
 
 def check_seat(ctx: FitContext) -> None:
@@ -110,31 +121,101 @@ _SEAT_MISMATCH_MESSAGES = {
            "against the taper: the seal leaks and the reach is wrong.",
 }
 
+# Appended to every message that gives guidance (reach, gasket, torque).
+GUIDANCE = " This is guidance: the engine maker's data comes first."
+
+
+def check_gasket(ctx: FitContext) -> None:
+    """A flat-seat plug needs its gasket; an indexing washer under it moves the plug out."""
+    plug, washer = ctx.plug, ctx.options.indexing_washer
+    if plug.seat == "flat" and plug.gasket_thickness is not None and plug.gasket_thickness.nominal <= EPSILON_MM:
+        ctx.add("GASKET_MISSING", "gasket", "warn", _GASKET_MISSING_MESSAGE)
+    if washer and plug.seat == "flat":
+        ctx.add("INDEXING_WASHER", "gasket", "info", _INDEXING_WASHER_MESSAGE, washer=(washer, LENGTH))
+
+
+_GASKET_MISSING_MESSAGE = (
+    "A flat-seat plug with no gasket (0 mm) has no seal and no heat path through the gasket, and it sits a gasket's "
+    "thickness deeper than its reach was made for: fit it with its gasket." + GUIDANCE)
+_INDEXING_WASHER_MESSAGE = (
+    "The indexing washer of {washer} under the gasket moves the plug {washer} outwards: its thread end and tip sit "
+    "that much further from the chamber (the reach and clearance checks include it), and the extra joint lengthens "
+    "the heat path from the plug to the head, so the plug runs hotter." + GUIDANCE)
+
 
 def check_reach(ctx: FitContext) -> None:
+    """Is the thread end at the chamber? REACH_LONG on the long side (threads in the chamber
+    all round), REACH_SHORT on the short side (head threads exposed all round); a thread
+    end between the break-outs of an inclined roof is the design state (info)."""
     geometry = ctx.geometry
-    protrusion = geometry.get("thread_protrusion")
-    if protrusion is None:
+    short_side, long_side = geometry.get("protrusion_short_side"), geometry.get("protrusion_long_side")
+    if short_side is None or long_side is None:
         ctx.not_checked("reach", _missing_for_thread_end(ctx, need_port=True))
         return
-    recess = geometry["thread_recess"]
     tolerance = ctx.flush_tolerance()
-    worst_protrusion = ctx.high(protrusion)
-    if worst_protrusion > tolerance + EPSILON_MM:
-        ctx.add("REACH_LONG", "reach", "warn",
-                "The plug's threads stand {thread_protrusion} into the chamber (worst case), "
-                "beyond the flush tolerance of {flush_tolerance}: exposed threads carbon up "
-                "and can seize in the head. A plug about {thread_protrusion} shorter in reach "
-                "fits flush.",
-                thread_protrusion=(worst_protrusion, LENGTH), flush_tolerance=(tolerance, LENGTH))
-    worst_recess = ctx.low(recess)
-    if worst_recess < -tolerance - EPSILON_MM:
-        ctx.add("REACH_SHORT", "reach", "warn",
-                "The plug's thread end stops {shortfall} short of the chamber (long side, "
-                "worst case), beyond the flush tolerance of {flush_tolerance}: the head's "
-                "threads are left exposed to carbon and the spark is shrouded. A plug about "
-                "{shortfall} longer in reach fits flush.",
-                shortfall=(-worst_recess, LENGTH), flush_tolerance=(tolerance, LENGTH))
+    standing = ctx.high(long_side)  # worst case: how far plug threads stand into the chamber
+    exposed = -ctx.low(short_side)  # worst case: how far head threads are left bare
+    inclined = long_side.nominal < short_side.nominal - EPSILON_MM
+    too_long = _reach_finding(ctx, "REACH_LONG", standing, tolerance, ctx.max_protrusion(), inclined)
+    too_short = _reach_finding(ctx, "REACH_SHORT", exposed, tolerance, ctx.max_recess(), inclined)
+    if inclined and not (too_long or too_short) and short_side.nominal >= -EPSILON_MM \
+            and long_side.nominal <= EPSILON_MM:
+        ctx.add("REACH_INCLINED_ROOF", "reach", "info", _INCLINED_ROOF_MESSAGE,
+                short_side=(short_side.nominal, LENGTH), long_side=(-long_side.nominal, LENGTH))
+
+
+def _reach_finding(ctx: FitContext, code: str, distance: float, tolerance: float,
+                   limit_and_note: tuple[float | None, str | None], inclined: bool) -> bool:
+    """Fail past the limit (`max_protrusion`, `max_recess`), else warn past the flush
+    tolerance; True when a finding was added. A default limit is noted when it decides
+    a finding's severity."""
+    limit, note = limit_and_note
+    fails = limit is not None and distance > limit + EPSILON_MM
+    if not fails and distance <= tolerance + EPSILON_MM:
+        return False
+    if note is not None:
+        ctx.assume(note)
+    geometry, reach = ctx.geometry, ctx.plug.reach
+    assert reach is not None  # there is a protrusion
+    values = {"distance": (distance, LENGTH), "flush_tolerance": (tolerance, LENGTH),
+              # the reaches that put the thread end at the short and at the long break-out
+              "fitting_reach_min": (reach.nominal - geometry["protrusion_short_side"].nominal, LENGTH),
+              "fitting_reach_max": (reach.nominal - geometry["protrusion_long_side"].nominal, LENGTH)}
+    if limit is not None:
+        values["limit"] = (limit, LENGTH)
+    ctx.add(code, "reach", "fail" if fails else "warn", _REACH_MESSAGES[code, fails, inclined], **values)
+    return True
+
+
+def _reach_messages() -> dict[tuple[str, bool, bool], str]:
+    """Every reach message, keyed by (code, fails, inclined roof): built once at import."""
+    what = {"REACH_LONG": "The plug's threads stand {distance} into the chamber all round (long side, worst case)",
+            "REACH_SHORT": "The plug's thread end stops {distance} short of the chamber all round (short side, "
+                           "worst case)"}
+    limit = {"REACH_LONG": "more than the {limit} allowed (max_protrusion): the wrong plug for this port",
+             "REACH_SHORT": "more than the {limit} allowed (max_recess): the wrong reach for this port"}
+    why = {"REACH_LONG": "Threads in the chamber are a hot spot that can pre-ignite the charge; they carbon up, can "
+                         "lock the plug and pull the head's threads out when it is removed, and they bring the "
+                         "shell towards the piston and valves.",
+           "REACH_SHORT": "The head's threads left bare carbon up, so the next plug is hard to fit, and the spark "
+                          "sits shrouded in the bore."}
+    fit = {False: "A plug of about {fitting_reach_min} reach (with the same gasket) fits flush.",
+           True: "A plug of {fitting_reach_min} to {fitting_reach_max} reach (with the same gasket) puts its "
+                 "thread end between the two break-outs of this inclined roof."}
+    messages = {}
+    for code, found in what.items():
+        for fails in (False, True):
+            for inclined in (False, True):
+                level = limit[code] if fails else "beyond the flush tolerance of {flush_tolerance}"
+                messages[code, fails, inclined] = f"{found}, {level}. {why[code]} {fit[inclined]}{GUIDANCE}"
+    return messages
+
+
+_REACH_MESSAGES = _reach_messages()
+_INCLINED_ROOF_MESSAGE = (
+    "The chamber roof is inclined and the plug's thread end lies between its two break-outs: its last "
+    "{short_side} of thread stands in the chamber on the short side, and it stops {long_side} short of the "
+    "chamber on the long side. That is how a plug sits in such a port, not a fault.")
 
 
 def _missing_for_thread_end(ctx: FitContext, need_port: bool) -> str:
@@ -155,20 +236,24 @@ class _Obstacle(NamedTuple):
     check: str
     code: str
     entry_name: str  # its margin's name in the geometry
-    too_close: str  # message templates: within the minimum clearance ...
-    interfering: str  # ... and past the obstacle
+    too_close: dict[str, str]  # message templates per feature: within the minimum clearance ...
+    interfering: dict[str, str]  # ... and past the obstacle
     neither_given: Skip  # not-checked reasons
     needs_port_depth: Skip
 
 
 def _obstacle(check: str, code: str, obstacle: str, seat_field: str, breakout_field: str) -> _Obstacle:
+    parts = {TIP: "the electrode",
+             SHELL_EDGE: "the low edge of the plug's shell (the plug is inclined {inclination} to the cylinder axis)"}
     return _Obstacle(
         check, code, f"{check}_margin",
-        f"At its closest the {obstacle} comes within {{margin}} of the electrode (worst case), "
-        "less than the minimum clearance of {min_clearance} by {shortfall}: it can strike the plug.",
-        f"The electrode would meet the {obstacle}: at its closest it reaches {{overlap}} past the "
-        f"{obstacle} (worst case). It needs {{shortfall}} more room to keep the minimum clearance "
-        "of {min_clearance}.",
+        {feature: f"At its closest (worst case) the {obstacle} comes within {{margin}} of {part}, less than the "
+                  "minimum clearance of {min_clearance} by {shortfall}: it can strike the plug."
+         for feature, part in parts.items()},
+        {feature: f"{part[0].upper()}{part[1:]} would meet the {obstacle}: at its closest (worst case) it reaches "
+                  f"{{overlap}} past the {obstacle}. It needs {{shortfall}} more room to keep the minimum clearance "
+                  "of {min_clearance}."
+         for feature, part in parts.items()},
         skip_reason(check, f"the head gives neither {breakout_field} nor {seat_field}"),
         skip_reason(check, f"{breakout_field} needs the port's port_depth or design_reach"))
 
@@ -178,7 +263,8 @@ _PISTON = _obstacle("piston", "PISTON_CONTACT", "piston crown at top dead centre
 _VALVE = _obstacle("valve", "VALVE_CONTACT", "valve", "seat_to_valve", "valve_clearance")
 
 
-def _clearance_check(ctx: FitContext, obstacle: _Obstacle, from_seat: object, from_breakout: object) -> None:
+def _clearance_check(ctx: FitContext, obstacle: _Obstacle, from_seat: object, from_breakout: object,
+                     feature: str = TIP) -> None:
     margin = ctx.geometry.get(obstacle.entry_name)
     if margin is None:
         if from_seat is None and from_breakout is None:
@@ -194,14 +280,37 @@ def _clearance_check(ctx: FitContext, obstacle: _Obstacle, from_seat: object, fr
     worst = ctx.low(margin)
     if worst >= minimum - EPSILON_MM:
         return
-    ctx.add(obstacle.code, obstacle.check, "fail", obstacle.interfering if worst < 0 else obstacle.too_close,
-            margin=(worst, LENGTH), overlap=(max(0.0, -worst), LENGTH),
-            min_clearance=(minimum, LENGTH), shortfall=(minimum - worst, LENGTH))
+    template = obstacle.interfering[feature] if worst < 0 else obstacle.too_close[feature]
+    values: dict[str, Value] = {"margin": (worst, LENGTH), "overlap": (max(0.0, -worst), LENGTH),
+                                "min_clearance": (minimum, LENGTH), "shortfall": (minimum - worst, LENGTH)}
+    if feature == SHELL_EDGE:
+        values["inclination"] = (ctx.port.plug_inclination_deg or 0.0, "angle")
+    ctx.add(obstacle.code, obstacle.check, "fail", template, **values)
 
 
 def check_piston(ctx: FitContext) -> None:
+    """The piston margin is the smaller of the electrode tip's and the shell edge's; the
+    analysis names the feature that governs and gives both."""
     port = ctx.port
-    _clearance_check(ctx, _PISTON, port.seat_to_piston, port.piston_clearance)
+    feature = TIP
+    if ctx.tip_margin is not None and ctx.shell_edge_margin is not None:
+        # the feature whose margin is smaller at the bound the verdict reads (the tip on a tie)
+        tip, edge = ctx.low(ctx.tip_margin), ctx.low(ctx.shell_edge_margin)
+        feature = SHELL_EDGE if edge < tip else TIP
+        if port.plug_inclination_deg is None:
+            ctx.assume(_INCLINATION_NOT_GIVEN)
+        ctx.assume(_FLAT_CROWN)
+        ctx.analysis["piston"] = {"governing_feature": feature, "tip_margin": (tip, LENGTH),
+                                  "shell_edge_margin": (edge, LENGTH),
+                                  "shell_edge_offset": (ctx.shell_edge_offset, LENGTH),
+                                  "plug_inclination": (port.plug_inclination_deg or 0.0, "angle")}
+    _clearance_check(ctx, _PISTON, port.seat_to_piston, port.piston_clearance, feature)
+
+
+_INCLINATION_NOT_GIVEN = ("piston: plug_inclination not given: 0 deg assumed (plug axis parallel to the cylinder "
+                          "axis), so the shell's edge is no nearer the crown than its axis")
+_FLAT_CROWN = ("piston: the crown is taken as flat and square to the cylinder axis; a domed or valve-relieved crown "
+               "needs its own measurement")
 
 
 def check_valve(ctx: FitContext) -> None:
@@ -309,6 +418,7 @@ _DRY_THREADS_ASSUMED = ("lubrication not given: the torque range for clean, dry 
                         "(give lubrication: oiled or anti_seize to have it lowered)")
 
 
+
 def _torque_message(standing: str, lubrication: str) -> str:
     where = (f"the recommended {{min}} to {{max}} for this thread, seat and head material, with "
              f"{LUBRICATION_WORDS[lubrication]}")
@@ -326,7 +436,7 @@ def _torque_message(standing: str, lubrication: str) -> str:
 
 
 # Every message, by (where the torque lies, lubrication); built once, not per finding.
-_TORQUE_MESSAGES = {(standing, lubrication): _torque_message(standing, lubrication)
+_TORQUE_MESSAGES = {(standing, lubrication): _torque_message(standing, lubrication) + GUIDANCE
                     for standing in (BELOW, ABOVE, FAR_ABOVE) for lubrication in LUBRICATION_WORDS}
 
 
@@ -336,13 +446,13 @@ def check_thread_strength(ctx: FitContext) -> None:
     plug, port, options = ctx.plug, ctx.port, ctx.options
     size = ctx.catalog.threads.get(port.thread)
     plug_class = _LOOSER_PLUG_CLASS if size is None else size.plug_thread_class
-    thread = _port_thread(port.thread, plug_class) if plug.thread == port.thread and plug.seat == port.seat else None
+    thread = _port_thread(port.thread, plug_class)
     if thread is None:
-        ctx.skip(_THREAD_STRENGTH_OTHER_THREAD)
+        ctx.skip(_THREAD_STRENGTH_NO_PITCH)
         return
     if size is None:
         ctx.assume(_LOOSER_CLASS_ASSUMED)
-    if "thread_protrusion" not in ctx.geometry:  # there is a thread end and a port depth
+    if "protrusion_short_side" not in ctx.geometry:  # there is a thread end and a port depth
         ctx.not_checked("thread_strength", _missing_for_thread_end(ctx, need_port=True))
         return
     material = port.material or "aluminium"
@@ -592,6 +702,7 @@ Check = Callable[[FitContext], None]
 CHECKS: tuple[Check, ...] = (
     check_thread,
     check_seat,
+    check_gasket,
     check_reach,
     check_piston,
     check_valve,
@@ -604,6 +715,13 @@ CHECKS: tuple[Check, ...] = (
     check_heat_range,
     check_boot,
 )
+
+# The checks that need the plug installed in the port (its position along the axis, the
+# torque it is tightened to). A plug of another thread or seat cannot be installed, so
+# for it only the others run (see `geometry.derive`, which says so in the assumptions).
+NEEDS_INSTALLATION = frozenset({check_gasket, check_reach, check_piston, check_valve, check_torque,
+                                check_thread_strength, check_boot})
+CHECKS_WITHOUT_INSTALLATION: tuple[Check, ...] = tuple(check for check in CHECKS if check not in NEEDS_INSTALLATION)
 
 # The names clients use in `check` and in the `require` option: the function name
 # without its prefix, so a new check cannot be forgotten here.

@@ -1,13 +1,17 @@
 """The finding codes clients switch on: stable names, each with the check that raises it
 and its severity. The OpenAPI document's enum and docs/engineering.md's table are tested against
-this list, so a new check cannot ship an undocumented code."""
+this list, so a new check cannot ship an undocumented code. A code that can be raised at
+more than one severity lists them, lowest first ("warn, fail")."""
 from __future__ import annotations
 
 FINDING_CODES: dict[str, tuple[str, str]] = {
     "THREAD_MISMATCH": ("thread", "fail"),
     "SEAT_MISMATCH": ("seat", "fail"),
-    "REACH_LONG": ("reach", "warn"),
-    "REACH_SHORT": ("reach", "warn"),
+    "GASKET_MISSING": ("gasket", "warn"),
+    "INDEXING_WASHER": ("gasket", "info"),
+    "REACH_LONG": ("reach", "warn, fail"),
+    "REACH_SHORT": ("reach", "warn, fail"),
+    "REACH_INCLINED_ROOF": ("reach", "info"),
     "PISTON_CONTACT": ("piston", "fail"),
     "VALVE_CONTACT": ("valve", "fail"),
     "TOOL_CLEARANCE": ("tool_clearance", "fail"),

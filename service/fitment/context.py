@@ -6,14 +6,22 @@ defaults and requirements the same way.
 """
 from __future__ import annotations
 
-from collections.abc import Mapping
 from functools import lru_cache
 from operator import itemgetter
 from typing import NamedTuple
 
 from .catalog import Catalog, TorqueGuide
-from .defaults import CAUTIONS, DYNAMIC_ALLOWANCE_MM, FLUSH_TOLERANCE_MM, MIN_CLEARANCE_MM, Default
-from .model import Finding, Options, PlugSpec, PortSpec, SourcedValue, Value
+from .defaults import (
+    CAUTIONS,
+    DYNAMIC_ALLOWANCE_MM,
+    FLUSH_TOLERANCE_MM,
+    MAX_PROTRUSION_PITCHES,
+    MAX_RECESS_PITCHES,
+    MIN_CLEARANCE_MM,
+    Default,
+)
+from .designation import parse_designation
+from .model import Analysis, Finding, Options, PlugSpec, PortSpec, SourcedValue, Value
 from .stack import Bounds, Stack
 
 
@@ -43,6 +51,18 @@ _FLUSH_TOLERANCE_NOTE = _default_note("flush_tolerance", FLUSH_TOLERANCE_MM)
 _DYNAMIC_ALLOWANCE_NOTE = _default_note("dynamic_allowance", DYNAMIC_ALLOWANCE_MM)
 
 
+@lru_cache(maxsize=64)
+def _pitch_default(name: str, thread: str, pitches: float, source: str) -> tuple[float, str] | None:
+    """A default counted in pitches of `thread` (mm, and its assumption), or None when the
+    designation gives no pitch. Keyed by strings and a float, which hash in C (a frozen
+    dataclass such as `Default` hashes in Python code)."""
+    pitch = (parse_designation(thread) or (0.0, None))[1]
+    if pitch is None:
+        return None
+    value = pitches * pitch
+    return value, f"{name} not given: {value:g} mm used, {source}"
+
+
 # Which entry of a `Bounds` a verdict reads, per stack option (see `FitContext.low`).
 _WORST_CASE_LOW, _WORST_CASE_HIGH = itemgetter(1), itemgetter(2)  # Bounds.min, Bounds.max
 _RSS_LOW, _RSS_HIGH = itemgetter(3), itemgetter(4)  # Bounds.rss_min, Bounds.rss_max
@@ -61,12 +81,18 @@ class FitContext:
         "gasket",
         "geometry",
         "high",
+        "installable",
         "low",
         "options",
         "plug",
         "port",
         "port_depth",
         "port_depth_long",
+        "shell_edge_margin",
+        "shell_edge_offset",
+        "thread_end",
+        "tip",
+        "tip_margin",
         "torque",
         "worst",
     )
@@ -77,7 +103,7 @@ class FitContext:
         self.options = options
         self.catalog = catalog
         self.findings: list[Finding] = []
-        self.analysis: dict[str, Mapping[str, Value | SourcedValue]] = {}
+        self.analysis: Analysis = {}
         self.assumptions: list[str] = []
         self.torque: TorqueGuide | None = None
         # The result's cautions: the general ones, and more when a check finds a reason.
@@ -88,6 +114,14 @@ class FitContext:
         self.gasket: Stack | None = None
         self.port_depth: Stack | None = None
         self.port_depth_long: Stack | None = None
+        self.thread_end: Stack | None = None  # e
+        self.tip: Stack | None = None  # t
+        # The two features the piston margin is the smaller of, and r·tan θ.
+        self.tip_margin: Bounds | None = None
+        self.shell_edge_margin: Bounds | None = None
+        self.shell_edge_offset = 0.0
+        # A plug of another thread or seat cannot be installed: no position, no torque.
+        self.installable = plug.thread == port.thread and plug.seat == port.seat
         # The worst severity found so far (0 info, 1 warn, 2 fail), kept as findings are
         # added so the verdict needs no second pass over them.
         self.worst = 0
@@ -98,20 +132,6 @@ class FitContext:
             self.low, self.high = _RSS_LOW, _RSS_HIGH
         else:
             self.low, self.high = _WORST_CASE_LOW, _WORST_CASE_HIGH
-
-    # `e` and `t` as stacks, made when asked for: the geometry entries already carry their
-    # bounds, and only the diagram and a few not-checked reasons read the stacks themselves.
-    @property
-    def thread_end(self) -> Stack | None:
-        """e = reach - s (None without a reach or a seat stand-off)."""
-        reach = self.plug.reach
-        return None if reach is None or self.gasket is None else reach - self.gasket
-
-    @property
-    def tip(self) -> Stack | None:
-        """t = e + firing_end (None without a thread end or a firing end)."""
-        end, firing_end = self.thread_end, self.plug.firing_end
-        return None if end is None or firing_end is None else end + firing_end
 
     # --- reporting -------------------------------------------------------------------
     def add(self, code: str, check: str, severity: str, message: str, **values: Value | SourcedValue) -> None:
@@ -155,6 +175,22 @@ class FitContext:
         if _FLUSH_TOLERANCE_NOTE not in self.assumptions:
             self.assumptions.append(_FLUSH_TOLERANCE_NOTE)
         return FLUSH_TOLERANCE_MM.value
+
+    # The reach check's fail levels are noted only where they decide a finding's severity
+    # (see checks.check_reach), so each returns the note with the value.
+    def max_protrusion(self) -> tuple[float | None, str | None]:
+        """REACH_LONG's fail level, and the note when it is the default (one pitch);
+        (None, None) when the port's thread gives no pitch: then it only warns."""
+        return self._pitch_limit(self.options.max_protrusion, "max_protrusion", MAX_PROTRUSION_PITCHES)
+
+    def max_recess(self) -> tuple[float | None, str | None]:
+        """REACH_SHORT's fail level, and the note when it is the default (two pitches)."""
+        return self._pitch_limit(self.options.max_recess, "max_recess", MAX_RECESS_PITCHES)
+
+    def _pitch_limit(self, given: float | None, name: str, pitches: Default) -> tuple[float | None, str | None]:
+        if given is not None:
+            return given, None
+        return _pitch_default(name, self.port.thread, pitches.value, pitches.source) or (None, None)
 
     def dynamic_allowance(self) -> float:
         given = self.options.dynamic_allowance

@@ -26,7 +26,27 @@ FLUSH_TOLERANCE_MM = Default(0.5, "common practice (less than one thread pitch)"
 # clearance). Zero unless the builder gives one: it depends on the engine.
 DYNAMIC_ALLOWANCE_MM = Default(0.0, "none unless given; it is engine-specific")
 
+# How far the thread end may stand into the chamber (long side) before REACH_LONG fails,
+# and stop short of it (short side) before REACH_SHORT fails, in pitches of the port's
+# thread (ISO 68-1 pitch, read from its designation). More than about one thread
+# standing in the chamber, or a plug a whole reach step short, is the wrong plug for the
+# port (common practice, from memory); the shortest step between the trade's reaches is
+# 9.5 -> 12.7 mm, more than two M14 pitches (reference-values.md, common practice).
+MAX_PROTRUSION_PITCHES = Default(1.0, "one pitch of the port's thread (ISO 68-1); more than about one thread "
+                                      "in the chamber is the wrong plug (common practice, from memory)")
+MAX_RECESS_PITCHES = Default(2.0, "two pitches of the port's thread (ISO 68-1); a plug a whole reach step "
+                                  "short is the wrong plug (common practice, from memory)")
+
+# A re-used flat gasket is already crushed: it is tightened only about 1/12 turn past
+# finger-tight instead of 1/2 turn (reference-values.md, common practice), and that turn
+# is all the further crush it gets. So its installed thickness is taken as the new
+# gasket's installed thickness less the plug's axial travel in that turn:
+# pitch x 30/360 (0.104 mm on M14x1.25). Derived from a common-practice figure.
+REUSED_GASKET_TURN_DEG = Default(30.0, "a re-used gasket is tightened about 1/12 turn past finger-tight "
+                                       "(common practice)")
+
 STACKS = ("worst_case", "rss")
+GASKET_CONDITIONS = ("new", "reused")
 LUBRICATIONS = ("dry", "oiled", "anti_seize")
 
 CAUTIONS = (

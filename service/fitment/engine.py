@@ -8,12 +8,16 @@ from __future__ import annotations
 from collections.abc import Iterable
 
 from .catalog import Catalog
-from .checks import CHECKS
+from .checks import CHECKS, CHECKS_WITHOUT_INSTALLATION
 from .context import FitContext
 from .geometry import derive
 from .model import Finding, FitResult, Options, PlugSpec, PortSpec
 
-ENGINE_VERSION = "1.1.0"
+# 2.0.0: the result's geometry names the two sides of the port (protrusion_short_side,
+# protrusion_long_side, replacing thread_protrusion and thread_recess), REACH_LONG and
+# REACH_SHORT can fail, and the piston margin counts the shell edge of an inclined plug
+# (1.1.0: the torque, strength and spark figures of issue 13).
+ENGINE_VERSION = "2.0.0"
 
 _SEVERITY_RANK = {"info": 0, "warn": 1, "fail": 2}
 _VERDICTS = ("pass", "warn", "fail")
@@ -35,7 +39,7 @@ def verdict_of(findings: Iterable[Finding]) -> str:
 def check_fit(plug: PlugSpec, port: PortSpec, options: Options | None, catalog: Catalog) -> FitResult:
     ctx = FitContext(plug, port, options or DEFAULT_OPTIONS, catalog)
     derive(ctx)
-    for check in CHECKS:
+    for check in CHECKS if ctx.installable else CHECKS_WITHOUT_INSTALLATION:
         check(ctx)
     # The context tracked the worst severity as findings were added (see `FitContext.add`).
     # Positional, in FitResult's field order: by keyword the call costs about 0.3 µs more,

@@ -1,22 +1,118 @@
 """The contract's geometry along the plug axis (origin at the head's seat face, positive
 towards the chamber), built as tolerance stacks before any check runs.
 
-    s      = installed gasket (flat plug) or 0 (conical plug)
+    s      = installed gasket (flat plug; thinner when re-used) + indexing washer; 0 (conical plug)
     D      = port depth, short side; from a design reach R_d: R_d - s_std (flat port), R_d (conical)
     D_long = port depth on the long side (default D)
-    e      = reach - s                 thread end
-    Δ      = e - D                     thread protrusion (REACH_LONG)
-    Δ_long = e - D_long                thread recess (REACH_SHORT)
-    t      = e + firing_end            tip position
-    m_p    = D + piston_clearance - t - dynamic  (or seat_to_piston - t - dynamic)
+    e      = reach - s                          thread end
+    protrusion_short_side = e - D               REACH_SHORT reads its low bound
+    protrusion_long_side  = e - D_long          REACH_LONG reads its high bound
+    t      = e + firing_end                     tip position
+    O      = D + piston_clearance, or seat_to_piston (valve likewise)
+    tip margin        = O - t - a               a: dynamic allowance
+    shell-edge margin = O - e - r·tan θ - a     r: half the thread's major diameter,
+                                                θ: the plug's inclination to the cylinder axis
+    piston_margin     = the smaller of the two, bound by bound
+    valve_margin      = O_valve - t - a         (the tip only)
+
+Each line below is one of these formulas, written with the stack operators
+(`stack.Stack`), so the code reads as the contract does.
 """
 from __future__ import annotations
 
+import math
 from functools import lru_cache
 
 from .context import FitContext
-from .model import Dim
-from .stack import ZERO, Stack, bounds_of
+from .defaults import REUSED_GASKET_TURN_DEG
+from .designation import parse_designation
+from .model import Dim, PlugSpec, PortSpec
+from .stack import ZERO, Stack, lower_of
+
+TIP, SHELL_EDGE = "tip", "shell_edge"
+
+
+def derive(ctx: FitContext) -> None:
+    """Fill the context's stacks and `geometry` entries from whatever inputs exist.
+
+    A plug of another thread or seat than the port cannot be installed in it: its
+    position along the axis does not exist, so no entry about it is made (the
+    assumptions say why)."""
+    plug, port, geometry = ctx.plug, ctx.port, ctx.geometry
+    D = ctx.port_depth = port_depth(ctx)
+    D_long = ctx.port_depth_long = port.port_depth_long_side or D
+    if not ctx.installable:
+        ctx.assume(_NOT_INSTALLABLE_NOTE)
+        return
+    s = ctx.gasket = standoff(ctx)
+    if plug.reach is None or s is None:
+        return
+    e = ctx.thread_end = plug.reach - s
+    if D is not None and D_long is not None:
+        short_side = geometry["protrusion_short_side"] = (e - D).bounds()
+        # On a flat roof D_long is D: the same entry (immutable, so shared).
+        geometry["protrusion_long_side"] = short_side if D_long is D else (e - D_long).bounds()
+    if plug.firing_end is None:
+        return
+    t = ctx.tip = e + plug.firing_end
+    geometry["tip_position"] = t.bounds()
+    if not (port.seat_to_piston or port.piston_clearance or port.seat_to_valve or port.valve_clearance):
+        return  # many heads give neither obstacle
+    a = ctx.dynamic_allowance()
+    O_piston = obstacle_distance(ctx, port.seat_to_piston, port.piston_clearance)
+    if O_piston is not None:
+        r_tan_theta = ctx.shell_edge_offset = shell_edge_offset(plug, port)
+        tip_margin = ctx.tip_margin = (O_piston - t - a).bounds()
+        edge_margin = ctx.shell_edge_margin = (O_piston - e - r_tan_theta - a).bounds()
+        geometry["piston_margin"] = lower_of(tip_margin, edge_margin)
+    O_valve = obstacle_distance(ctx, port.seat_to_valve, port.valve_clearance)
+    if O_valve is not None:
+        geometry["valve_margin"] = (O_valve - t - a).bounds()
+
+
+_NOT_INSTALLABLE_NOTE = ("the plug's thread or seat does not match the port's, so it cannot be installed there: "
+                         "its position in the port (protrusion, tip, margins), the torque guidance and the checks "
+                         "that depend on them (gasket, reach, piston, valve, torque, thread strength, boot) are "
+                         "left out")
+
+
+def port_depth(ctx: FitContext) -> Stack | None:
+    """D: the port depth given, or the design reach less the standard gasket (flat port)."""
+    port = ctx.port
+    if port.port_depth is not None:
+        return port.port_depth
+    if port.design_reach is None:
+        return None
+    if port.seat == "conical":
+        return port.design_reach
+    thickness = _standard_gasket(ctx, port.thread, "port depth derived from design_reach")
+    return None if thickness is None else port.design_reach - thickness
+
+
+def standoff(ctx: FitContext) -> Stack | None:
+    """s: how far the plug's seat stands off the head's seat face (None: not known)."""
+    plug, options = ctx.plug, ctx.options
+    if plug.seat == "conical":
+        if options.indexing_washer:
+            ctx.assume(_WASHER_ON_CONICAL_NOTE)
+        return ZERO
+    gasket: Stack | None = plug.gasket_thickness
+    if gasket is None:
+        thickness = _standard_gasket(ctx, plug.thread, "plug gasket_thickness not given")
+        if thickness is None:
+            return None
+        gasket = Stack.exact(thickness)
+    if options.gasket_condition == "reused":
+        crush, note = _reuse_crush(plug.thread)
+        ctx.assume(note)
+        gasket = gasket - crush
+    if options.indexing_washer:
+        gasket = gasket + options.indexing_washer
+    return gasket
+
+
+_WASHER_ON_CONICAL_NOTE = ("indexing_washer left out: a conical-seat plug seals on its taper, with no gasket "
+                           "and no washer")
 
 
 def _standard_gasket(ctx: FitContext, thread: str, who: str) -> float | None:
@@ -34,103 +130,35 @@ def _gasket_note(who: str, designation: str, thickness_mm: float, source: str) -
     return f"{who}: the standard installed gasket for {designation}, {thickness_mm:g} mm, is assumed ({source})"
 
 
-def _gasket(ctx: FitContext) -> Stack | None:
-    plug = ctx.plug
-    if plug.seat == "conical":
-        return ZERO
-    if plug.gasket_thickness is not None:
-        return plug.gasket_thickness
-    thickness = _standard_gasket(ctx, plug.thread, "plug gasket_thickness not given")
-    return None if thickness is None else Stack.exact(thickness)
+@lru_cache(maxsize=64)
+def _reuse_crush(thread: str) -> tuple[float, str]:
+    """How much thinner a re-used gasket sits than a new one: the plug's axial travel in
+    the re-used gasket's turn past finger-tight (pitch × 30/360), and the note saying so."""
+    pitch = (parse_designation(thread) or (0.0, None))[1] or 0.0
+    crush = pitch * REUSED_GASKET_TURN_DEG.value / 360.0
+    return crush, (f"gasket_condition reused: the gasket is taken {crush:.3f} mm thinner than installed new, the "
+                   f"travel of a further {REUSED_GASKET_TURN_DEG.value:g} deg turn on the {pitch:g} mm pitch "
+                   f"({REUSED_GASKET_TURN_DEG.source}); tighten it by the re-used gasket's turn angle "
+                   "(torque.reused_gasket_turn_angle_deg), not the new gasket's")
 
 
-def _port_depth(ctx: FitContext) -> Stack | None:
-    port = ctx.port
-    if port.port_depth is not None:
-        return port.port_depth
-    if port.design_reach is None:
-        return None
-    if port.seat == "conical":
-        return port.design_reach
-    thickness = _standard_gasket(ctx, port.thread, "port depth derived from design_reach")
-    return None if thickness is None else port.design_reach - Stack.exact(thickness)
+def obstacle_distance(ctx: FitContext, from_seat: Dim | None, from_breakout: Dim | None) -> Stack | None:
+    """O: from the seat face to an obstacle (piston, valve) along the plug axis.
 
-
-def clearance_stack(ctx: FitContext, from_seat: Dim | None, from_breakout: Dim | None) -> Stack | None:
-    """Distance from the seat face to an obstacle (piston, valve) along the axis."""
-    terms = _obstacle_terms(from_seat, from_breakout, ctx.port_depth)
-    return terms if terms is None or terms is from_seat else Stack(*terms)
-
-
-def _obstacle_terms(from_seat: Dim | None, from_breakout: Dim | None, depth: Stack | None) -> tuple[float, ...] | Dim | None:
-    """`clearance_stack`'s terms, as a plain tuple when summed: `derive` reads them once,
-    and a plain tuple is made and unpacked in half the time of a `Stack` (about 0.2 µs a
-    fit on heads that give the clearance from the breakout)."""
+    Measured from the seat it is one length; from the break-out it adds the port depth,
+    whose tolerance then counts once (`seat_to_piston` exists so that it need not)."""
     if from_seat is not None:
         return from_seat
-    if from_breakout is None or depth is None:
+    if from_breakout is None or ctx.port_depth is None:
         return None
-    # D + clearance, as `Stack.__add__` sums it.
-    return (depth[0] + from_breakout[0], depth[1] + from_breakout[1], depth[2] + from_breakout[2],
-            depth[3] + from_breakout[3], depth[4] + from_breakout[4])
+    return ctx.port_depth + from_breakout
 
 
-def derive(ctx: FitContext) -> None:
-    """Fill the context's stacks and `geometry` entries from whatever inputs exist.
-
-    Every fit runs this first, so the stack arithmetic is written out on local floats
-    (`Stack.__sub__`, `Stack.__add__` and `bounds_of`, the same operations in the same
-    order, so every bound is bit-for-bit what the operators give) rather than through
-    the operators: each operator call builds a tuple subclass, and a fit used to make a
-    dozen of them that nobody kept. Only the geometry entries are built; `ctx.thread_end`
-    and `ctx.tip` make their stacks when read."""
-    plug, port, geometry = ctx.plug, ctx.port, ctx.geometry
-    gasket = ctx.gasket = _gasket(ctx)
-    depth = ctx.port_depth = port.port_depth if port.port_depth is not None else _port_depth(ctx)
-    if depth is not None:
-        depth_long = ctx.port_depth_long = (port.port_depth_long_side
-                                            if port.port_depth_long_side is not None else depth)
-    reach = plug.reach
-    if reach is None or gasket is None:
-        return
-    # Each stack unpacked once as (nominal, up, down, up², down²): cheaper than indexing it.
-    r, r_up, r_down, r_up2, r_down2 = reach
-    s, s_up, s_down, s_up2, s_down2 = gasket
-    # e = reach - s
-    e, e_up, e_down, e_up2, e_down2 = r - s, r_up + s_down, r_down + s_up, r_up2 + s_down2, r_down2 + s_up2
-    if depth is not None:
-        # Δ = e - D
-        d, d_up, d_down, d_up2, d_down2 = depth
-        protrusion = geometry["thread_protrusion"] = bounds_of(
-            e - d, e_up + d_down, e_down + d_up, e_up2 + d_down2, e_down2 + d_up2)
-        # Δ_long = e - D_long; without a long side it is the same entry (immutable, so shared).
-        if depth_long is depth:
-            geometry["thread_recess"] = protrusion
-        else:
-            d, d_up, d_down, d_up2, d_down2 = depth_long
-            geometry["thread_recess"] = bounds_of(e - d, e_up + d_down, e_down + d_up, e_up2 + d_down2, e_down2 + d_up2)
-    firing_end = plug.firing_end
-    if firing_end is None:
-        return
-    # t = e + firing_end
-    f, f_up, f_down, f_up2, f_down2 = firing_end
-    t, t_up, t_down, t_up2, t_down2 = e + f, e_up + f_up, e_down + f_down, e_up2 + f_up2, e_down2 + f_down2
-    geometry["tip_position"] = bounds_of(t, t_up, t_down, t_up2, t_down2)
-    # Many heads give no valve (or piston) data; skip the call for them.
-    piston = (_obstacle_terms(port.seat_to_piston, port.piston_clearance, depth)
-              if port.seat_to_piston is not None or port.piston_clearance is not None else None)
-    valve = (_obstacle_terms(port.seat_to_valve, port.valve_clearance, depth)
-             if port.seat_to_valve is not None or port.valve_clearance is not None else None)
-    if piston is None and valve is None:
-        return
-    # m = obstacle - (t + allowance), the allowance an exact term: its zero tolerances are
-    # added as `Stack.__add__` would, so even a signed zero comes out as before.
-    a = t + ctx.dynamic_allowance()
-    a_up, a_down, a_up2, a_down2 = t_up + 0.0, t_down + 0.0, t_up2 + 0.0, t_down2 + 0.0
-    if piston is not None:
-        o, o_up, o_down, o_up2, o_down2 = piston
-        geometry["piston_margin"] = bounds_of(o - a, o_up + a_down, o_down + a_up, o_up2 + a_down2, o_down2 + a_up2)
-    if valve is not None:
-        o, o_up, o_down, o_up2, o_down2 = valve
-        geometry["valve_margin"] = bounds_of(o - a, o_up + a_down, o_down + a_up, o_up2 + a_down2, o_down2 + a_up2)
-
+def shell_edge_offset(plug: PlugSpec, port: PortSpec) -> float:
+    """r·tan θ: how much nearer a flat crown square to the cylinder axis is to the low edge
+    of the shell's thread end than to the plug axis, measured along the plug axis."""
+    theta = port.plug_inclination_deg or 0.0
+    if theta == 0.0:
+        return 0.0
+    diameter = (parse_designation(plug.thread) or (0.0, None))[0]
+    return diameter / 2.0 * math.tan(math.radians(theta))

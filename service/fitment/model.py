@@ -95,6 +95,8 @@ class PortSpec:
     seat_to_piston: Dim | None = None
     valve_clearance: Dim | None = None
     seat_to_valve: Dim | None = None
+    # Angle in degrees between the plug axis and the cylinder axis (None: not given, 0 assumed).
+    plug_inclination_deg: float | None = None
     well_bore: float | None = None
     hex: float | None = None
     resistor_required: bool | None = None
@@ -120,7 +122,11 @@ class Options:
 
     min_clearance: float | None = None
     flush_tolerance: float | None = None
+    max_protrusion: float | None = None
+    max_recess: float | None = None
     dynamic_allowance: float | None = None
+    gasket_condition: str = "new"  # or "reused" (defaults.GASKET_CONDITIONS)
+    indexing_washer: float | None = None
     stack: str = "worst_case"
     torque: float | None = None
     lubrication: str | None = None
@@ -141,6 +147,9 @@ def least_sure(*grades: str) -> str:
     """The grade a value computed from values of these grades has: the last of them in
     GRADES (a product of a published and a from-memory number is from memory)."""
     return max(grades, key=GRADES.index)
+# What a check computed, per check: quantities (sourced or not), and the odd name (the
+# piston margin's governing feature, "tip" or "shell_edge").
+Analysis = dict[str, Mapping[str, Value | SourcedValue | str]]
 
 
 class Finding(NamedTuple):
@@ -161,7 +170,7 @@ class FitResult:
     thread: str
     findings: list[Finding]
     geometry: dict[str, Bounds]
-    analysis: dict[str, Mapping[str, Value | SourcedValue]]
+    analysis: Analysis
     torque: TorqueGuide | None
     assumptions: list[str]
     cautions: tuple[str, ...]

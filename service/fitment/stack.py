@@ -31,6 +31,10 @@ class Bounds(NamedTuple):
 
 
 class Stack(NamedTuple):
+    """A signed sum of toleranced lengths. `+` and `-` take another stack (a `Dim` is one),
+    or a plain float for an exact length (an allowance, a computed offset): the formulas
+    then read as the contract writes them, `O - e - r·tan θ - a`."""
+
     nominal: float
     up: float = 0.0
     down: float = 0.0
@@ -46,27 +50,33 @@ class Stack(NamedTuple):
     def exact(value: float) -> Stack:
         return _new(Stack, (value, 0.0, 0.0, 0.0, 0.0))
 
-    def __add__(self, other: Stack) -> Stack:  # type: ignore[override]
+    def __add__(self, other: Stack | float) -> Stack:  # type: ignore[override]
+        if isinstance(other, (float, int)):  # an exact length moves the nominal only
+            return _new(Stack, (self[0] + other, self[1], self[2], self[3], self[4]))
         return _new(Stack, (self[0] + other[0], self[1] + other[1], self[2] + other[2],
                             self[3] + other[3], self[4] + other[4]))
 
-    def __sub__(self, other: Stack) -> Stack:
+    def __sub__(self, other: Stack | float) -> Stack:
+        if isinstance(other, (float, int)):
+            return _new(Stack, (self[0] - other, self[1], self[2], self[3], self[4]))
         # Subtracting a length turns its plus tolerance into a downward excursion.
         return _new(Stack, (self[0] - other[0], self[1] + other[2], self[2] + other[1],
                             self[3] + other[4], self[4] + other[3]))
 
     def bounds(self) -> Bounds:
-        return bounds_of(*self)
+        """Worst case: every tolerance at its limit, summed linearly (arithmetic stack).
+        RSS: nominal -/+ sqrt(sum of squared tolerances), assuming independent, centred
+        variation (the usual statistical stack)."""
+        nominal, up, down, up_sq, down_sq = self
+        return _new(Bounds, (nominal, nominal - down, nominal + up,
+                             nominal - sqrt(down_sq) if down_sq else nominal,
+                             nominal + sqrt(up_sq) if up_sq else nominal))
 
 
-def bounds_of(nominal: float, up: float, down: float, up_sq: float, down_sq: float) -> Bounds:
-    """A stack's bounds from its terms, for code that sums stacks on plain floats."""
-    # Worst case: every tolerance at its limit, summed linearly (arithmetic stack).
-    # RSS: nominal -/+ sqrt(sum of squared tolerances), assuming independent, centred
-    # variation (the usual statistical stack).
-    return _new(Bounds, (nominal, nominal - down, nominal + up,
-                         nominal - sqrt(down_sq) if down_sq else nominal,
-                         nominal + sqrt(up_sq) if up_sq else nominal))
+def lower_of(first: Bounds, second: Bounds) -> Bounds:
+    """The smaller of two quantities, bound by bound: min(X, Y) lies between the smaller
+    of their lows and the smaller of their highs."""
+    return _new(Bounds, tuple(map(min, first, second)))
 
 
 ZERO = Stack.exact(0.0)

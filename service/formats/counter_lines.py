@@ -11,16 +11,14 @@ from __future__ import annotations
 
 from typing import Any, Protocol
 
-from service.fitment.interchange import Comparison
 from service.fitment.model import FitResult, PlugSpec
+from service.fitment.search import INTERCHANGE_CAUTIONS, Comparison
 from service.formats.result_json import quantity_document
 
 # The most severe first; a listed plug never has a failing finding.
 _SEVERITY_ORDER = {"fail": 0, "warn": 1, "info": 2}
-# A line's protrusions, read from the result's geometry under the contract's names, or
-# under the names those entries had before the reach policy named them by side.
-PROTRUSION_ENTRIES = {"protrusion_short_side": ("protrusion_short_side", "thread_protrusion"),
-                      "protrusion_long_side": ("protrusion_long_side", "thread_recess")}
+# A line's protrusions: the result's geometry entries of the same names.
+PROTRUSIONS = ("protrusion_short_side", "protrusion_long_side")
 
 
 class InventoryLine(Protocol):
@@ -70,8 +68,8 @@ class FittingLines:
     def _from_result(self, result: FitResult) -> dict[str, Any]:
         geometry = result.geometry
         written: dict[str, Any] = {"verdict": result.verdict, "codes": finding_codes(result)}
-        for name, candidates in PROTRUSION_ENTRIES.items():
-            entry = next((geometry[key] for key in candidates if key in geometry), None)
+        for name in PROTRUSIONS:
+            entry = geometry.get(name)
             written[name] = None if entry is None else length(entry.nominal, self.units)
         margin = geometry.get("piston_margin")
         written["piston_margin"] = None if margin is None else length(margin[self.low_bound], self.units)
@@ -84,5 +82,11 @@ def interchange_line(row: InventoryLine, spec: PlugSpec, comparison: Comparison,
             "closeness": length(comparison.closeness, units),
             "differences": {"thread_end": length(comparison.thread_end_difference, units),
                             "tip": length(comparison.tip_difference, units),
-                            "terminal_top": length(comparison.terminal_top_difference, units)},
-            "hex_differs": comparison.hex_differs}
+                            "terminal_top": length(comparison.terminal_top_difference, units),
+                            "heat_range": heat_range_step(comparison.heat_range_difference)},
+            "hex_differs": comparison.hex_differs, "cautions": list(INTERCHANGE_CAUTIONS)}
+
+
+def heat_range_step(difference: float | None) -> dict[str, Any] | None:
+    """A heat-range difference has no unit: it counts positions on the plugs' own scale."""
+    return None if difference is None else {"value": round(difference, 3) + 0.0, "unit": ""}

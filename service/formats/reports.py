@@ -112,7 +112,17 @@ def text_report(answer: dict[str, Any], source: str, fail_on: str = "fail", styl
     if details:
         out += ["", "Details", *details]
     out += ["", _summary_line(answer["summary"], fail_on, style)]
+    out += [f"Caution: {text}" for text in cautions_of(results)]
     return "\n".join(out) + "\n"
+
+
+def cautions_of(results: list[dict[str, Any]]) -> list[str]:
+    """The cautions the checked lines carry, each once, in order (one footer per report)."""
+    seen: dict[str, None] = {}
+    for result in results:
+        for text in result.get("cautions") or ():
+            seen.setdefault(text, None)
+    return list(seen)
 
 
 def _details(results: list[dict[str, Any]], style: Style) -> list[str]:
@@ -167,7 +177,8 @@ def junit_report(answer: dict[str, Any], source: str, fail_on: str = "fail",
     A line that fails (or warns, with `--fail-on warn`) is a `<failure>` carrying its
     findings; a line that cannot be read (verdict invalid) is an `<error>`: the check
     could not run at all. Warnings that do not fail and waived findings go to the test
-    case's `<system-out>`. Written as text with escaping (ElementTree needs a third of a
+    case's `<system-out>`; the cautions that go with the guidance go, once, to the
+    suite's `<system-out>`. Written as text with escaping (ElementTree needs a third of a
     second to build and indent 10,000 cases); the tests parse it back.
     """
     failing = failing_verdicts(fail_on)
@@ -198,6 +209,9 @@ def junit_report(answer: dict[str, Any], source: str, fail_on: str = "fail",
             out.append(f"{opening}>\n      <system-out>{escape(text)}</system-out>\n    </testcase>")
         else:
             out.append(f"{opening} />")
+    cautions = cautions_of(results)
+    if cautions:  # once for the suite, not once per test case
+        out.append(f"    <system-out>{escape(chr(10).join(cautions))}</system-out>")
     out += ["  </testsuite>", "</testsuites>"]
     return "\n".join(out) + "\n"
 
@@ -251,7 +265,8 @@ def _torque_guidance(torque: dict[str, Any]) -> str:
             text += f" ({torque['reused_gasket_turn_angle_deg']:g} deg with a re-used gasket)"
     return f"{text} ({torque['source']})"
 
-_GEOMETRY_LABELS = {"thread_protrusion": "thread protrusion", "thread_recess": "thread recess (long side)",
+
+_GEOMETRY_LABELS = {"protrusion_short_side": "protrusion, short side", "protrusion_long_side": "protrusion, long side",
                     "tip_position": "tip position", "piston_margin": "piston margin", "valve_margin": "valve margin"}
 
 
@@ -277,7 +292,8 @@ def result_text(document: dict[str, Any], style: Style = plain) -> str:
             out.append(f"  {_GEOMETRY_LABELS.get(name, name):<26}{numbers}")
         out.append("")
     for check, quantities in (document.get("analysis") or {}).items():
-        shown = ", ".join(f"{name} {display_value(name, q)}" for name, q in quantities.items())
+        shown = ", ".join(f"{name} {q}" if isinstance(q, str) else f"{name} {display_value(name, q)}"
+                          for name, q in quantities.items())
         out.append(f"Analysis, {check}: {shown}")
     torque = document.get("torque")
     if torque:

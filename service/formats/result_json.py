@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import math
 import re
+from collections.abc import Mapping
 from functools import lru_cache
 from typing import Any
 
@@ -139,11 +140,15 @@ def render_message(template: str, values: dict[str, dict[str, Any]]) -> str:
     return text
 
 
-def _quantities(values: dict[str, tuple], converters: _Converters) -> dict[str, dict[str, Any]]:
+def _quantities(values: Mapping[str, tuple | str], converters: _Converters) -> dict[str, Any]:
     """A finding's or an analysis's values in the output units; a value that carries its
-    grade and source (`model.SourcedValue`) keeps them."""
-    out = {}
+    grade and source (`model.SourcedValue`) keeps them, and a name (the piston margin's
+    governing feature) is written as it is."""
+    out: dict[str, Any] = {}
     for name, quantity in values.items():
+        if isinstance(quantity, str):
+            out[name] = quantity
+            continue
         unit, scale, offset, digits = converters[quantity[1]]
         entry = out[name] = {"value": round(quantity[0] * scale + offset, digits), "unit": unit}
         if len(quantity) == 4:

@@ -129,6 +129,7 @@ class Head(Timestamped, Base):
     seat_to_valve_nominal_mm: Mapped[float | None] = _length()
     seat_to_valve_plus_mm: Mapped[float | None] = _length()
     seat_to_valve_minus_mm: Mapped[float | None] = _length()
+    plug_inclination_deg: Mapped[float | None] = mapped_column(Float)  # migration 0006
     well_bore_mm: Mapped[float | None] = _length()
     hex_mm: Mapped[float | None] = _length()
     resistor_required: Mapped[bool | None] = mapped_column(Boolean)

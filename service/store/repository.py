@@ -145,7 +145,8 @@ HEADS: RecordMapping[Head] = RecordMapping(
              ("boost_pressure", "boost_pressure_bar"), ("forced_induction", "forced_induction"),
              ("intake_temperature", "intake_temperature_k"), ("peak_pressure", "peak_pressure_bar"),
              ("ignition_voltage", "ignition_voltage_kv"), ("bore", "bore_mm"), ("stroke", "stroke_mm"),
-             ("rod_length", "rod_length_mm"), ("spark_advance", "spark_advance_deg")),
+             ("rod_length", "rod_length_mm"), ("spark_advance", "spark_advance_deg"),
+             ("plug_inclination", "plug_inclination_deg")),
     nested=(
         Nested("heat_range_band", (("scale", "heat_range_band_scale", False), ("min", "heat_range_band_min", False),
                                    ("max", "heat_range_band_max", False)), required=("scale", "min", "max")),

@@ -1,7 +1,7 @@
 """The parts counter against the database: fitting plugs for a head, interchanges for a plug.
 
-The rules live in the pure engine (`service.fitment.counter` says what a head's bounds
-decide about a plug, `service.fitment.interchange` which plug replaces which); this
+The rules live in the pure engine (`service.fitment.search` says what a head's bounds
+decide about a plug, and which plug replaces which); this
 module applies them to a table of 100,000 plugs without reading it row by row.
 
 A large stock list carries each plug design under many SKUs (pack sizes, branches,
@@ -20,7 +20,7 @@ fitting-plugs, for a head of thread T and seat S:
    a. group the plugs of T and S that pass the filters by design, with their counts
       (kept too: every head of T and S starts from the same designs);
    b. drop the designs the head's bounds say certainly fail; check with the engine
-      the designs whose piston, valve or tool verdict is not certain (few), and every
+      the designs whose reach, piston, valve or tool verdict is not certain (few), and every
       design inside the pass window (clean passes can only come from there);
    c. the designs left unchecked are outside the window and certain not to fail:
       certain to warn, so they are ranked without the engine;
@@ -32,8 +32,8 @@ fitting-plugs, for a head of thread T and seat S:
 3. Judge the page (`_judged`): a design not checked yet is checked now, so every listed
    plug has been checked by the engine, and a failure is never listed.
 
-The ranking key (|protrusion|, worst-case piston margin) is computed from the design's
-numbers by `service.fitment.counter.rank_key`; tests compare it with the engine's
+The ranking key (the thread end's distance from the break-outs, worst-case piston margin)
+is computed from the design's numbers by `service.fitment.search.rank_key`; tests compare it with the engine's
 geometry and the whole listing with a brute-force run of the engine over every plug.
 """
 from __future__ import annotations
@@ -48,9 +48,21 @@ from typing import Any, TypeVar
 from schemas.specs import MAX_GASKET_MM, plug_spec, port_spec
 from service.fitment import check_fit
 from service.fitment.catalog import HEX_MATCH_MM, Catalog
-from service.fitment.counter import FAIL, PASS, WARN, FitBounds, RankKey, classify, fit_bounds, rank_key
-from service.fitment.interchange import Comparison, Tolerances, compare, position
 from service.fitment.model import FitResult, Options, PlugSpec, PortSpec
+from service.fitment.search import (
+    FAIL,
+    PASS,
+    WARN,
+    Comparison,
+    FitBounds,
+    RankKey,
+    Tolerances,
+    classify,
+    compare,
+    fit_bounds,
+    position,
+    rank_key,
+)
 from service.store import records_cache, repository
 from service.store.records_cache import Memo, View
 from service.store.repository import CounterRow, Design
@@ -343,7 +355,7 @@ class InterchangeRanking:
 def rank_interchanges(session, original: PlugSpec, original_sku: str, catalog: Catalog,
                       filters: PlugFilters = NO_FILTERS, tolerances: Tolerances = DEFAULT_TOLERANCES
                       ) -> InterchangeRanking:
-    """Every design that can replace `original`, ranked (`service.fitment.interchange`)."""
+    """Every design that can replace `original`, ranked (`service.fitment.search`)."""
     here = position(original, catalog)
     if here is None:
         return InterchangeRanking([])
@@ -368,7 +380,7 @@ def interchanges(session, original: PlugSpec, original_sku: str, catalog: Catalo
                  filters: PlugFilters = NO_FILTERS, tolerances: Tolerances = DEFAULT_TOLERANCES,
                  offset: int = 0, limit: int = 50, view: View | None = None) -> InterchangePage:
     """Inventory plugs that can replace `original`, closest first (see
-    `service.fitment.interchange` for the rule and its tolerances)."""
+    `service.fitment.search` for the rule and its tolerances)."""
     ranking = (view or records_cache.view(session)).get_or_build(
         ("interchanges", original, original_sku, catalog.version, filters, tolerances),
         lambda: rank_interchanges(session, original, original_sku, catalog, filters, tolerances))

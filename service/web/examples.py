@@ -54,19 +54,27 @@ FIT_RESULT = {
          "values": {}},
     ],
     "geometry": {
-        "thread_protrusion": {"nominal": 0.0, "min": 0.0, "max": 0.0, "rss_min": 0.0, "rss_max": 0.0, "unit": "mm"},
-        "thread_recess": {"nominal": 0.0, "min": 0.0, "max": 0.0, "rss_min": 0.0, "rss_max": 0.0, "unit": "mm"},
+        "protrusion_short_side": {"nominal": 0.0, "min": 0.0, "max": 0.0, "rss_min": 0.0, "rss_max": 0.0,
+                                  "unit": "mm"},
+        "protrusion_long_side": {"nominal": 0.0, "min": 0.0, "max": 0.0, "rss_min": 0.0, "rss_max": 0.0,
+                                 "unit": "mm"},
         "tip_position": {"nominal": 21.5, "min": 21.5, "max": 21.5, "rss_min": 21.5, "rss_max": 21.5, "unit": "mm"},
         "piston_margin": {"nominal": 4.0, "min": 4.0, "max": 4.0, "rss_min": 4.0, "rss_max": 4.0, "unit": "mm"},
     },
-    "analysis": {"thread_strength": {"safety_factor": {"value": 7.3774, "unit": ""}}},
+    "analysis": {"piston": {"governing_feature": "tip", "tip_margin": {"value": 4.0, "unit": "mm"},
+                            "shell_edge_margin": {"value": 8.0, "unit": "mm"},
+                            "shell_edge_offset": {"value": 0.0, "unit": "mm"},
+                            "plug_inclination": {"value": 0.0, "unit": "deg"}},
+                 "thread_strength": {"safety_factor": {"value": 7.3774, "unit": ""}}},
     "torque": {"min": 25.0, "max": 30.0, "unit": "N*m", "lubrication": "dry", "turn_angle_deg": 180.0,
                "turn_angle_note": "after finger-tight, with a new gasket", "reused_gasket_turn_angle_deg": 30.0,
                "source": "torque: common torque guidance (common practice)"},
-    "assumptions": ["min_clearance not given: 1.5 mm used (common practice (about 0.060 in), from memory)"],
+    "assumptions": ["min_clearance not given: 1.5 mm used (common practice (about 0.060 in), from memory)",
+                    ("piston: plug_inclination not given: 0 deg assumed (plug axis parallel to the cylinder axis), "
+                     "so the shell's edge is no nearer the crown than its axis")],
     "cautions": [("Torque, clearance and gap values are guidance: the engine maker's service data, "
                  "local regulations and licensed practice come first.")],
-    "engine_version": "1.1.0",
+    "engine_version": "2.0.0",
     "catalog_version": "fbcb0fa264fd",
 }
 

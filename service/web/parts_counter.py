@@ -16,7 +16,7 @@ from schemas.answers import PlugSchema
 from schemas.counter import FULL, FittingPlugSchema, FittingPlugsQuerySchema, InterchangeQuerySchema, InterchangeSchema
 from schemas.specs import options_from
 from service.catalog_loader import load_catalog
-from service.fitment.interchange import THREAD_END_TOLERANCE_MM, TIP_TOLERANCE_MM, Tolerances
+from service.fitment.search import INTERCHANGE_CAUTIONS, THREAD_END_TOLERANCE_MM, TIP_TOLERANCE_MM, Tolerances
 from service.formats.counter_lines import FittingLines, interchange_line
 from service.formats.result_json import result_document
 from service.store import db
@@ -42,8 +42,8 @@ EXAMPLE_FITTING = [{
 EXAMPLE_INTERCHANGE = [{
     "sku": "DEMO-P-0001", **_DEMO_LINE, "closeness": {"value": 0.0, "unit": "mm"},
     "differences": {"thread_end": {"value": 0.0, "unit": "mm"}, "tip": {"value": 0.0, "unit": "mm"},
-                    "terminal_top": {"value": 0.0, "unit": "mm"}},
-    "hex_differs": False,
+                    "terminal_top": {"value": 0.0, "unit": "mm"}, "heat_range": {"value": 0.0, "unit": ""}},
+    "hex_differs": False, "cautions": list(INTERCHANGE_CAUTIONS),
 }]
 
 _plug_schema = PlugSchema()
@@ -78,8 +78,9 @@ class FittingPlugs(MethodView):
         Every plug of the head's thread and seat is judged by the same engine as
         `POST /v1/fit-checks`; plugs that fail are left out. Clean passes come first,
         then plugs with warnings (`?include=pass` lists clean passes only). Within each
-        group: closest to flush first (smallest nominal |protrusion|), then the largest
-        worst-case piston margin, then sku.
+        group: closest to the chamber first (the nominal thread end's distance from the
+        break-outs: |protrusion| on a flat roof, 0 between the break-outs of an inclined
+        one), then the largest worst-case piston margin (tip or shell edge), then sku.
 
         Each entry is a counter line: sku, description, stock and bin, heat range, the
         verdict and its finding codes, both protrusions and the piston margin the
@@ -87,15 +88,17 @@ class FittingPlugs(MethodView):
         the whole result document (`result`), so a counter system can say why.
 
         Filters: `in_stock=true` (quantity_on_hand above zero), `resistor`, `hex`.
-        Check options `stack`, `min_clearance`, `flush_tolerance`, `dynamic_allowance`
-        as for a fit check; `units=imperial` answers in inches. Paginated with `page`
+        Check options `stack`, `min_clearance`, `flush_tolerance`, `max_protrusion`,
+        `max_recess`, `dynamic_allowance` as for a fit check; `units=imperial` answers in
+        inches. Paginated with `page`
         and `page_size` (X-Pagination header, with the total). Torque, clearance and gap
         figures are guidance: the engine maker's service data, local regulations and
         licensed practice come first.
         """
         session = db.session()
         options = options_from({name: query.get(name) for name in
-                                ("stack", "min_clearance", "flush_tolerance", "dynamic_allowance")})
+                                ("stack", "min_clearance", "flush_tolerance", "max_protrusion", "max_recess",
+                                 "dynamic_allowance")})
         page = parts_search.fitting_plugs_of_head(session, head_id, options, load_catalog(), filters=_filters(query),
                                                   include=frozenset(query["include"]),
                                                   offset=pagination_parameters.first_item,
@@ -133,11 +136,14 @@ class Interchanges(MethodView):
         is only replaced by a resistor plug. A plug whose firing end is unknown is only
         compared with others whose firing end is unknown. A hex of another family is
         noted (`hex_differs`), not refused. No maker cross-references and no heat-range
-        mapping: check a replacement against the head (fitting-plugs) for heat range,
-        gap and boot. Ranked by closeness (|thread end difference| + |tip difference|),
-        then same hex first, then sku. Each entry is a counter line (sku, description,
-        stock and bin, heat range) with the differences in mm (`units=imperial`: in);
-        `detail=full` adds the stored plug (`plug`). `thread_end_tolerance` and
+        mapping: the heat-range difference is given only when both plugs are on the same
+        named scale, and the gap is not compared; check a replacement against the head
+        (fitting-plugs) for heat range, gap and boot. Ranked by closeness (|thread end
+        difference| + |tip difference|), then the smallest heat-range difference, then the
+        smallest terminal-top difference (unknown ones last), then same hex first, then
+        sku. Each entry is a counter line (sku, description, stock and bin, heat range)
+        with the differences (lengths in mm, `units=imperial`: in) and the cautions that
+        go with them; `detail=full` adds the stored plug (`plug`). `thread_end_tolerance` and
         `tip_tolerance` may tighten the tolerances. Filters `in_stock`, `resistor`,
         `hex`; paginated.
         """

@@ -45,7 +45,7 @@ def test_a_csv_list_reports_lines_and_errors_by_column(client):
     assert response.status_code == 200
     first, second = response.get_json()["results"]
     assert (first["line"], first["verdict"]) == (2, "pass")
-    assert first["geometry"]["thread_protrusion"]["nominal"] == pytest.approx(0.05)
+    assert first["geometry"]["protrusion_short_side"]["nominal"] == pytest.approx(0.05)
     assert second == {"ref": "b", "line": 3, "verdict": "invalid",
                       "errors": {"plug_reach_in": ["the column is in in (see its header): write a plain number"]}}
 

@@ -88,7 +88,7 @@ def test_a_sync_worker_answers_a_long_distinct_list_by_itself_with_no_child_proc
                                  "verdict": "fail"}
     last = answer["results"][-2]  # line-4998: reach 19.04998 mm, port depth 17.54998 mm
     assert last["ref"] == "line-4998" and last["line"] == 5000
-    assert last["geometry"]["thread_protrusion"]["nominal"] == pytest.approx(0.0, abs=1e-4)
+    assert last["geometry"]["protrusion_short_side"]["nominal"] == pytest.approx(0.0, abs=1e-4)
     assert last["geometry"]["piston_margin"]["nominal"] == pytest.approx(4.0)
     assert answer["results"][-1]["verdict"] == "invalid" and list(answer["results"][-1]["errors"]) == ["plug_reach_mm"]
     assert answer == run_batch(read_csv(text), load_catalog()).as_dict()

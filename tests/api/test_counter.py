@@ -27,7 +27,9 @@ PLUGS = [
     plug("B-FLUSH-LONG-TIP", 19.0, 5.0),      # flush, margin 3.0 -> pass, second
     plug("C-NEAR-FLUSH", 19.3, 2.0),          # protrusion 0.3 (within 0.5) -> pass, third
     plug("D-NO-RESISTOR", 19.0, 2.0, resistor=False),      # RESISTOR_REQUIRED -> warn, first warning
-    plug("E-SHORT", 12.7, 3.0),               # protrusion -6.3 -> REACH_SHORT warn
+    plug("E-SHORT", 18.0, 3.0),               # protrusion -1.0 (past 0.5, inside 2 pitches) -> REACH_SHORT warn
+    plug("E-HALF-INCH", 12.7, 3.0),           # protrusion -6.3, past 2 pitches (2.5) -> REACH_SHORT fail: left out
+    plug("E-LONG", 20.8, 3.0),                # protrusion 1.3, past one pitch (1.25, ISO 68-1) -> REACH_LONG fail
     plug("F-HITS-PISTON", 19.0, 7.0),         # margin 1.0 < 1.5 -> PISTON_CONTACT: left out
     plug("G-BIG-HEX", 19.0, 2.0, hex=20.8),   # 20.8 mm socket (28.0 mm) > 25 mm well: left out
     plug("H-OUT-OF-STOCK", 19.0, 2.0, quantity_on_hand=0),  # pass, like A, ranks by sku after A
@@ -74,8 +76,8 @@ def test_each_entry_is_the_counter_line_a_clerk_reads(shop):
     assert "guidance" in first["cautions"][0]
     assert set(first["codes"]) <= {"NOT_CHECKED"}  # nothing but checks without data
     assert lines["D-NO-RESISTOR"]["codes"][0] == "RESISTOR_REQUIRED"  # the warning before the notes
-    # E: 12.7 - 1.5 - 17.5 = -6.3 mm, head threads exposed
-    assert lines["E-SHORT"]["protrusion_short_side"] == {"value": -6.3, "unit": "mm"}
+    # E: 18.0 - 1.5 - 17.5 = -1.0 mm, head threads exposed
+    assert lines["E-SHORT"]["protrusion_short_side"] == {"value": -1.0, "unit": "mm"}
     assert lines["E-SHORT"]["codes"][0] == "REACH_SHORT"
 
 
@@ -90,12 +92,13 @@ def test_detail_full_adds_the_stored_plug_and_the_whole_result_document(shop):
     assert [{key: value for key, value in entry.items() if key not in ("plug", "result")} for entry in body] == summary
     FittingPlugSchema(many=True).load(body)
     assert shop.get("/v1/heads/T-HEAD/fitting-plugs?detail=everything").status_code == 422
+    assert all("licensed practice come first" in " ".join(entry["cautions"]) for entry in body)
 
 
 def test_nothing_that_fails_is_listed(shop):
     _response, body = listing(shop, "/v1/heads/T-HEAD/fitting-plugs?page_size=1000")
     skus = {entry["sku"] for entry in body}
-    assert not skus & {"F-HITS-PISTON", "G-BIG-HEX", "I-OTHER-THREAD"}
+    assert not skus & {"E-HALF-INCH", "E-LONG", "F-HITS-PISTON", "G-BIG-HEX", "I-OTHER-THREAD"}
     assert all(entry["verdict"] != "fail" for entry in body)
 
 
@@ -185,6 +188,26 @@ def test_interchanges_are_ranked_by_closeness_with_differences_in_mm(counter_sto
     _response, full = listing(counter_stock, "/v1/plugs/R-ORIGINAL/interchanges?detail=full")
     assert [entry["plug"]["sku"] for entry in full] == [entry["sku"] for entry in body]
     InterchangeSchema(many=True).load(full)
+    # Guidance carries its caution, and says what interchange leaves to the fit check.
+    cautions = " ".join(body[0]["cautions"])
+    assert "heat-range differences are shown, not judged" in cautions and "gap is not compared" in cautions
+    assert "licensed practice come first" in cautions
+    assert body[0]["differences"]["heat_range"] is None  # no heat ranges on file
+
+
+def test_interchanges_give_the_heat_range_step_on_the_same_scale_and_rank_by_it(client, auth):
+    """Invented scale names; heat ranges 5 (original), 6, 9 on one scale and 5 on another."""
+    lines = [plug("H-ORIGINAL", 19.0, 3.0, heat_range={"scale": "shop", "value": 5}),
+             plug("H-FOUR-AWAY", 19.0, 3.0, heat_range={"scale": "shop", "value": 9}),
+             plug("H-ONE-AWAY", 19.0, 3.0, heat_range={"scale": "Shop ", "value": 6}),
+             plug("H-OTHER-SCALE", 19.0, 3.0, heat_range={"scale": "other", "value": 5})]
+    answer = client.post("/v1/imports/plugs", data="\n".join(json.dumps(p) for p in lines) + "\n",
+                         headers={**auth, "Content-Type": "application/x-ndjson"})
+    assert answer.status_code == 200, answer.get_json()
+    _response, body = listing(client, "/v1/plugs/H-ORIGINAL/interchanges")
+    assert [(entry["sku"], entry["differences"]["heat_range"]) for entry in body] == [
+        ("H-ONE-AWAY", {"value": 1.0, "unit": ""}), ("H-FOUR-AWAY", {"value": 4.0, "unit": ""}),
+        ("H-OTHER-SCALE", None)]
 
 
 def test_a_plug_without_a_resistor_may_be_replaced_by_one_with(counter_stock):

@@ -32,7 +32,8 @@ def test_an_inline_flush_fit_passes_with_the_contract_geometry(client):
     assert FitResultSchema().validate(document) == {}
     assert document["verdict"] == "pass"
     assert document["thread"] == "M14x1.25"
-    assert document["geometry"]["thread_protrusion"]["nominal"] == pytest.approx(0.0)
+    assert document["geometry"]["protrusion_short_side"]["nominal"] == pytest.approx(0.0)
+    assert document["geometry"]["protrusion_long_side"]["nominal"] == pytest.approx(0.0)
     assert document["geometry"]["tip_position"]["nominal"] == pytest.approx(21.5)
     assert document["geometry"]["piston_margin"]["nominal"] == pytest.approx(4.0)
     assert document["geometry"]["piston_margin"]["unit"] == "mm"

@@ -9,8 +9,8 @@ from sqlalchemy import insert, select
 from schemas.specs import options_from, plug_spec, port_spec
 from service.catalog_loader import load_catalog
 from service.fitment import check_fit
-from service.fitment.counter import GROUP, result_rank_key
-from service.fitment.interchange import Tolerances, compare
+from service.fitment.model import Dim
+from service.fitment.search import GROUP, Tolerances, compare, result_rank_key
 from service.store import db, repository
 from service.store.models import Head, Plug
 from service.usecases import parts_search, seeding
@@ -127,13 +127,30 @@ def test_the_filters_restrict_to_stock_resistor_and_hex(shop):
 
 
 @pytest.mark.parametrize("given", [{"stack": "rss"}, {"min_clearance": 0.5, "flush_tolerance": 1.0},
-                                   {"dynamic_allowance": 0.8, "min_clearance": 2.5}])
+                                   {"dynamic_allowance": 0.8, "min_clearance": 2.5},
+                                   {"max_protrusion": 0.3, "max_recess": 0.6},
+                                   {"flush_tolerance": 2.0, "stack": "rss"}])
 def test_check_options_change_the_listing_exactly_as_they_change_the_checks(shop, given):
     app, plugs, heads = shop
     options = options_from(given)
     for head_id in ("DEMO-H-VAN-I4", "DEMO-H-TRACTOR-I2", "DEMO-H-RACE", "DEMO-H-PROJECT-I4"):
         head = next(h for h in heads if h["head_id"] == head_id)
         assert searched(app, head, options)[0] == brute_force(plugs, head, options), head_id
+
+
+def test_inclined_plugs_and_roofs_list_exactly_what_the_engine_lets_through(shop):
+    """Every demo head again with its plug leaning 25 deg and its roof 2 mm deeper on the
+    long side (invented variants): the shell edge and the new reach policy at work."""
+    app, plugs, heads = shop
+    options, catalog = options_from({}), load_catalog()
+    for head in heads:
+        if head.get("port_depth") is not None:
+            depth = head["port_depth"].nominal
+        else:  # D = design reach less the standard gasket (flat) or the design reach (conical)
+            flat = head["seat"] == "flat"
+            depth = head["design_reach"].nominal - (catalog.thread(head["thread"]).standard_gasket_mm if flat else 0.0)
+        leaning = dict(head, plug_inclination=25.0, port_depth_long_side=Dim(depth + 2.0, 0.1, 0.1))
+        assert searched(app, leaning, options)[0] == brute_force(plugs, leaning, options), head["head_id"]
 
 
 def test_interchanges_equal_a_brute_force_comparison(shop):

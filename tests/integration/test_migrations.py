@@ -67,6 +67,26 @@ def test_the_heads_generation_triggers_survive_a_downgrade_below_the_boost_colum
     assert after > before
 
 
+GENERATION = text("SELECT generation FROM table_generations WHERE name = 'heads'")
+
+
+def test_a_head_written_at_head_revision_still_raises_the_heads_generation(database_url):
+    """The triggers of migration 0004 must survive every later migration of `heads` (a
+    SQLite batch rebuild of the table would drop them, and the counter's cache would never
+    hear of a changed head)."""
+    engine = db.make_engine(database_url)
+    try:
+        with engine.begin() as connection:
+            before = connection.execute(GENERATION).scalar() or 0  # the row may have been emptied
+            connection.execute(text("INSERT INTO heads (head_id, thread, nonstandard_thread, seat, version, "
+                                    "created_at, updated_at) VALUES ('T-GEN', 'M14x1.25', false, 'flat', 1, "
+                                    "CURRENT_TIMESTAMP, CURRENT_TIMESTAMP)"))
+            after = connection.execute(GENERATION).scalar() or 0
+    finally:
+        engine.dispose()
+    assert after > before
+
+
 def test_plugs_are_indexed_on_thread_and_seat_for_the_fitting_search(database_url):
     engine = db.make_engine(database_url)
     try:

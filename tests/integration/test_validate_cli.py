@@ -22,11 +22,12 @@ EXAMPLE_JSON = REPO / "examples" / "build-list.json"
 HEADER = ("ref,plug_thread,plug_seat,plug_reach_mm,plug_gasket_thickness_mm,plug_firing_end_mm,head_thread,"
           "head_seat,head_port_depth_mm,head_piston_clearance_mm,waive\n")
 # Contract geometry (fit-check-contract.md): 19.0 − 1.5 = 17.5 = port depth → flush,
-# piston margin (17.5 + 8) − 21.5 = 4.0 mm. A 26.5 mm reach protrudes 7.5 mm (REACH_LONG,
-# warn); in an 8 mm piston clearance its margin is (17.5 + 8) − 29 = −3.5 mm (fail).
+# piston margin (17.5 + 8) − 21.5 = 4.0 mm. A 20.0 mm reach protrudes 1.0 mm, past the
+# 0.5 mm flush tolerance and inside one M14 pitch of 1.25 mm, ISO 68-1 (REACH_LONG, warn);
+# in a 4 mm piston clearance its margin is (17.5 + 4) − 22.5 = −1.0 mm (fail).
 FLUSH = "flush,M14,flat,19,1.5,4,M14,flat,17.5,8,\n"
-LONG_ROOMY = "long,M14,flat,26.5,1.5,4,M14,flat,17.5,20,\n"
-HITS_PISTON = "hits,M14,flat,26.5,1.5,4,M14,flat,17.5,8,\n"
+LONG_ROOMY = "long,M14,flat,20,1.5,4,M14,flat,17.5,20,\n"
+HITS_PISTON = "hits,M14,flat,20,1.5,4,M14,flat,17.5,4,\n"
 
 
 def write(tmp_path: Path, text: str, name: str = "list.csv") -> str:
@@ -68,7 +69,7 @@ def test_a_failing_line_exits_1_and_the_table_says_which_line_and_why(runner, tm
     assert result.exit_code == 1
     assert "PISTON_CONTACT" in result.output
     assert "line 3  hits  FAIL" in result.output
-    assert "It needs 5.00 mm more room" in result.output  # 1.5 mm minimum − (−3.5 mm) margin
+    assert "It needs 2.50 mm more room" in result.output  # 1.5 mm minimum − (−1.0 mm) margin
 
 
 def test_a_line_that_cannot_be_read_exits_1_and_the_others_are_still_checked(runner, tmp_path):
@@ -292,8 +293,8 @@ def _long_distinct_list(tmp_path: Path) -> str:
     for n in range(800):
         reach = "abc" if n % 100 == 99 else f"{19 + n / 1e5:.5f}"
         rows += [f"flush-{n},M14,flat,{reach},1.5,4,M14,flat,{17.5 + n / 1e5:.5f},8,\n",
-                 f"long-{n},M14,flat,{26.5 + n / 1e5:.5f},1.5,4,M14,flat,17.5,{20 + n / 1e5:.5f},\n",
-                 f"hits-{n},M14,flat,{26.5 - n / 1e5:.5f},1.5,4,M14,flat,17.5,{8 - n / 1e5:.5f},REACH_LONG: why\n"]
+                 f"long-{n},M14,flat,{20 + n / 1e5:.5f},1.5,4,M14,flat,17.5,{20 + n / 1e5:.5f},\n",
+                 f"hits-{n},M14,flat,{20 - n / 1e5:.5f},1.5,4,M14,flat,17.5,{4 - n / 1e5:.5f},REACH_LONG: why\n"]
     return write(tmp_path, HEADER + "".join(rows), "long.csv")
 
 

@@ -19,10 +19,10 @@ from service.usecases.batch import _schema_for, run_batch
 # piston margin = (17.5 + 8.0) − 21.5 = 4.0 mm.
 FLUSH_PLUG = {"thread": "M14x1.25", "seat": "flat", "reach": 19.0, "gasket_thickness": 1.5, "firing_end": 4.0}
 FLUSH_HEAD = {"thread": "M14x1.25", "seat": "flat", "port_depth": 17.5, "piston_clearance": 8.0}
-# A 26.5 mm reach (a long standard reach, reference-values.md, common practice) in the
-# same port: protrusion 26.5 − 1.5 − 17.5 = 7.5 mm > the 0.5 mm flush tolerance →
-# REACH_LONG; with 20 mm piston clearance the margin is (17.5 + 20) − (25 + 4) = 8.5 mm.
-LONG_PLUG = dict(FLUSH_PLUG, reach=26.5)
+# A 20.0 mm reach in the same port: protrusion 20.0 − 1.5 − 17.5 = 1.0 mm > the 0.5 mm
+# flush tolerance and below one pitch of M14x1.25 (1.25 mm, ISO 68-1) → REACH_LONG warns;
+# with 20 mm piston clearance the margin is (17.5 + 20) − (18.5 + 4) = 15.0 mm.
+LONG_PLUG = dict(FLUSH_PLUG, reach=20.0)
 ROOMY_HEAD = dict(FLUSH_HEAD, piston_clearance=20.0)
 
 
@@ -37,7 +37,8 @@ def test_the_contract_flush_fit_passes_with_the_contract_numbers(catalog):
     answer = batch([{"ref": "flush", "plug": FLUSH_PLUG, "head": FLUSH_HEAD}], catalog)
     result = answer["results"][0]
     assert result["ref"] == "flush" and result["verdict"] == "pass"
-    assert result["geometry"]["thread_protrusion"]["nominal"] == pytest.approx(0.0)
+    assert result["geometry"]["protrusion_short_side"]["nominal"] == pytest.approx(0.0)
+    assert result["geometry"]["protrusion_long_side"]["nominal"] == pytest.approx(0.0)
     assert result["geometry"]["tip_position"]["nominal"] == pytest.approx(21.5)
     assert result["geometry"]["piston_margin"]["nominal"] == pytest.approx(4.0)
     assert answer["summary"] == {"total": 1, "pass": 1, "warn": 0, "fail": 0, "invalid": 0, "verdict": "pass"}
@@ -66,8 +67,9 @@ def test_a_bad_item_is_invalid_with_its_field_errors_and_the_others_are_still_ch
 def test_the_long_reach_warns_by_the_protrusion_the_contract_gives(catalog):
     result = batch([{"plug": LONG_PLUG, "head": ROOMY_HEAD}], catalog)["results"][0]
     (finding,) = [f for f in result["findings"] if f["code"] == "REACH_LONG"]
-    assert finding["values"]["thread_protrusion"] == {"value": pytest.approx(7.5), "unit": "mm"}
-    assert result["geometry"]["piston_margin"]["nominal"] == pytest.approx(8.5)
+    assert finding["severity"] == "warn"
+    assert finding["values"]["distance"] == {"value": pytest.approx(1.0), "unit": "mm"}
+    assert result["geometry"]["piston_margin"]["nominal"] == pytest.approx(15.0)
 
 
 def test_a_waiver_moves_the_finding_out_of_the_verdict_and_keeps_its_reason(catalog):
@@ -79,7 +81,7 @@ def test_a_waiver_moves_the_finding_out_of_the_verdict_and_keeps_its_reason(cata
     first, stale = result["waivers"]
     assert first["reason"] == "domed piston relieved for the long reach"
     assert [f["code"] for f in first["findings"]] == ["REACH_LONG"]
-    assert first["findings"][0]["values"]["thread_protrusion"]["value"] == pytest.approx(7.5)
+    assert first["findings"][0]["values"]["distance"]["value"] == pytest.approx(1.0)
     assert stale["findings"] == []
 
 

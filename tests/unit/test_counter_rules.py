@@ -1,4 +1,5 @@
-"""The parts counter's pure rules: what a head's bounds decide, the ranking, interchanges."""
+"""The parts counter's pure rules (service/fitment/search.py): what a head's bounds decide,
+proved against the engine itself; the ranking; interchanges."""
 from __future__ import annotations
 
 import pytest
@@ -6,12 +7,24 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from service.fitment import check_fit
-from service.fitment.counter import FAIL, PASS, WARN, RankKey, classify, fit_bounds, rank, rank_key, result_rank_key
-from service.fitment.interchange import TIP_TOLERANCE_MM, Tolerances, compare
 from service.fitment.model import Dim, HeatRange, HeatRangeBand, Options, PlugSpec, PortSpec, Span
+from service.fitment.search import (
+    FAIL,
+    PASS,
+    TIP_TOLERANCE_MM,
+    WARN,
+    RankKey,
+    Tolerances,
+    classify,
+    compare,
+    fit_bounds,
+    rank,
+    rank_key,
+    result_rank_key,
+)
 
 SETTINGS = settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
-FAILING = {"PISTON_CONTACT", "VALVE_CONTACT", "TOOL_CLEARANCE"}
+FAILING = {"REACH_LONG", "REACH_SHORT", "PISTON_CONTACT", "VALVE_CONTACT", "TOOL_CLEARANCE"}
 
 # Lengths in mm on a 0.05 mm grid (as a shop would write them), tolerances 0-0.3 mm.
 def lengths(low: float, high: float):
@@ -32,7 +45,7 @@ def plug_and_port(draw):
     plug = PlugSpec(
         "M14x1.25", seat,
         reach=draw(optional(dims(8, 28))),
-        gasket_thickness=None if seat == "conical" else draw(optional(dims(0.5, 2.5))),
+        gasket_thickness=None if seat == "conical" else draw(optional(st.one_of(dims(0.5, 2.5), st.just(Dim(0.0))))),
         firing_end=draw(optional(dims(-1, 8))),
         hex=draw(hexes), resistor=draw(st.sampled_from([None, True, False])),
         terminal_height=draw(optional(dims(40, 65))),
@@ -45,6 +58,7 @@ def plug_and_port(draw):
         piston_clearance=None if by_seat else draw(optional(dims(1, 14))),
         seat_to_piston=draw(optional(dims(10, 40))) if by_seat else None,
         valve_clearance=draw(optional(dims(1, 14))),
+        plug_inclination_deg=draw(st.sampled_from([None, 0.0, 12.0, 30.0, 45.0])),
         well_bore=draw(st.sampled_from([None, 21.0, 22.4, 23.0, 26.0, 30.0])),
         hex=draw(st.sampled_from([None, 16.0, 20.8])),
         resistor_required=draw(st.sampled_from([None, True, False])),
@@ -53,12 +67,14 @@ def plug_and_port(draw):
         boot_range=draw(st.sampled_from([None, Span(50.0, 60.0)])),
         compression_ratio=draw(st.sampled_from([None, 10.0])), ignition_voltage_kv=draw(st.sampled_from([None, 30.0])))
     if port.port_depth is not None and draw(st.booleans()):
-        long_side = Dim(port.port_depth.nominal + draw(lengths(0, 1.5)), 0.1, 0.1)
+        long_side = Dim(port.port_depth.nominal + draw(lengths(0, 3)), 0.1, 0.1)
         port = PortSpec(**{**{name: getattr(port, name) for name in PortSpec.__slots__},
                            "port_depth_long_side": long_side})
     options = Options(stack=draw(st.sampled_from(["worst_case", "rss"])),
                       min_clearance=draw(st.sampled_from([None, 0.5, 2.0])),
-                      flush_tolerance=draw(st.sampled_from([None, 0.25, 1.0])),
+                      flush_tolerance=draw(st.sampled_from([None, 0.25, 1.0, 3.0])),
+                      max_protrusion=draw(st.sampled_from([None, 0.0, 0.3, 2.0])),
+                      max_recess=draw(st.sampled_from([None, 0.2, 1.0, 4.0])),
                       dynamic_allowance=draw(st.sampled_from([None, 0.3])))
     return plug, port, options
 
@@ -110,12 +126,17 @@ def test_the_pass_window_of_a_19mm_flat_port_is_a_millimetre_around_flush(catalo
     port = PortSpec("M14x1.25", "flat", design_reach=Dim(19.0), piston_clearance=Dim(8.0))
     bounds = fit_bounds(port, Options(), catalog)
     assert bounds.pass_window == pytest.approx((17.0, 18.0))
+    # REACH_* fail one M14 pitch (1.25 mm, ISO 68-1) proud or two pitches (2.5 mm) short.
+    assert bounds.reach_fail_outside == pytest.approx((15.0, 18.75))
     # piston at 17.5 + 8 = 25.5; minimum clearance 1.5 (default): a nominal tip past 24 fails.
     assert bounds.tip_fail_above == pytest.approx(24.0)
     long_tip = PlugSpec("M14x1.25", "flat", reach=Dim(19.0), firing_end=Dim(6.6))  # tip 24.1
     assert classify(long_tip, bounds).certain_fail
-    short = PlugSpec("M14x1.25", "flat", reach=Dim(12.7), firing_end=Dim(3.0))
+    # 1 mm short (thread end 16.5): past the flush tolerance, inside two pitches: it warns.
+    short = PlugSpec("M14x1.25", "flat", reach=Dim(18.0), firing_end=Dim(3.0))
     assert not classify(short, bounds).may_pass and classify(short, bounds).certain_no_fail
+    # A 1/2 in plug (12.7 mm, I.S. 34:1954) in this 3/4 in port: 4.8 mm short, the wrong reach.
+    assert classify(PlugSpec("M14x1.25", "flat", reach=Dim(12.7), firing_end=Dim(3.0)), bounds).certain_fail
 
 
 # --- interchanges ----------------------------------------------------------------------

@@ -16,6 +16,7 @@ def _documented_table() -> dict[str, tuple[str, str]]:
     text = (REPO / "docs" / "engineering.md").read_text()
     section = text[text.index("## Finding codes"):]
     section = section[:section.index("\n## ", 3)]
+    # A code raised at more than one severity lists them: `warn, fail`.
     rows = re.findall(r"^\| `([A-Z_]+)` \| ([a-z_]+) \| ([a-z]+(?:, [a-z]+)*)", section, re.MULTILINE)
     return {code: (check, severity) for code, check, severity in rows}
 

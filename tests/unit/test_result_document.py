@@ -31,14 +31,15 @@ def test_imperial_answers_are_in_inches_and_foot_pounds(check):
 
 
 def test_messages_read_in_the_clients_units(check):
-    """Δ = (26.5 - 1.5) - 17.5 = 7.5 mm = 0.295 in."""
-    result = check(dict(FLUSH_PLUG, reach=26.5), FLUSH_HEAD)
+    """Protrusion (20.0 - 1.5) - 17.5 = 1.0 mm = 0.039 in, past the 0.5 mm flush tolerance;
+    the reach that fits flush: 17.5 + 1.5 = 19.0 mm = 0.748 in."""
+    result = check(dict(FLUSH_PLUG, reach=20.0), FLUSH_HEAD)
     metric = result_document(result, "metric")["findings"][0]
     imperial = result_document(result, "imperial")["findings"][0]
     assert metric["code"] == "REACH_LONG"
-    assert "7.50 mm" in metric["message"] and "0.50 mm" in metric["message"]
-    assert "0.295 in" in imperial["message"]
-    assert metric["values"]["thread_protrusion"] == {"value": 7.5, "unit": "mm"}
+    assert "1.00 mm" in metric["message"] and "0.50 mm" in metric["message"] and "19.00 mm" in metric["message"]
+    assert "0.039 in" in imperial["message"] and "0.748 in" in imperial["message"]
+    assert metric["values"]["distance"] == {"value": 1.0, "unit": "mm"}
 
 
 def test_imperial_assumptions_state_their_figures_in_inches_and_psi_and_quote_sources_as_published(check):
@@ -68,10 +69,11 @@ def test_every_result_carries_the_guidance_caution(check):
 
 
 def test_documents_written_with_one_intern_table_share_their_repeated_parts_and_equal_unshared_ones(check):
-    """Reach 19 vs 21 mm in the flush port: different geometry, the same cautions,
-    assumptions, torque guide and NOT_CHECKED findings, which are then one object each."""
+    """Reach 19 vs 19.3 mm in the flush port (both within the flush tolerance): different
+    geometry, the same cautions, assumptions, torque guide and NOT_CHECKED findings, which
+    are then one object each."""
     first = check(FLUSH_PLUG, FLUSH_HEAD, {"torque": 25})
-    second = check(dict(FLUSH_PLUG, reach=21.0), FLUSH_HEAD, {"torque": 25})
+    second = check(dict(FLUSH_PLUG, reach=19.3), FLUSH_HEAD, {"torque": 25})
     shared: dict = {}
     one, two = result_document(first, "metric", shared), result_document(second, "metric", shared)
     assert one == result_document(first, "metric") and two == result_document(second, "metric")
@@ -89,6 +91,6 @@ def test_a_toleranced_protrusion_spreads_and_an_exact_margin_gives_five_equal_nu
     margin = result_document(check(FLUSH_PLUG, FLUSH_HEAD))["geometry"]["piston_margin"]
     assert [margin[name] for name in ("nominal", "min", "max", "rss_min", "rss_max")] == [pytest.approx(4.0)] * 5
     toleranced = result_document(check(FLUSH_PLUG, dict(FLUSH_HEAD, port_depth={"value": 17.5, "tol": 0.2})))
-    protrusion = toleranced["geometry"]["thread_protrusion"]
+    protrusion = toleranced["geometry"]["protrusion_short_side"]
     assert protrusion["nominal"] == pytest.approx(0.0, abs=1e-9)
     assert (protrusion["min"], protrusion["max"]) == (pytest.approx(-0.2), pytest.approx(0.2))
