@@ -22,7 +22,7 @@ from xml.sax.saxutils import escape, quoteattr
 
 from service.fitment.catalog import Catalog
 from service.fitment.context import FitContext
-from service.fitment.geometry import derive
+from service.fitment.geometry import SHELL_EDGE, TIP, derive, obstacle_distance
 from service.fitment.model import Finding, FitResult, Options, PlugSpec, PortSpec
 from service.fitment.stack import Bounds, Stack
 from service.formats.result_json import result_document
@@ -74,27 +74,19 @@ def _nominal(stack: Stack | None) -> float | None:
     return None if stack is None else stack.nominal
 
 
-def axial_layout(plug: PlugSpec, port: PortSpec, catalog: Catalog | None = None) -> AxialLayout:
+def axial_layout(plug: PlugSpec, port: PortSpec, catalog: Catalog | None = None,
+                 options: Options | None = None) -> AxialLayout:
     """Positions from the engine's own derivation (`geometry.derive`), so they match the check."""
-    ctx = FitContext(plug, port, Options(), catalog or Catalog(version="diagram", threads={}))
+    ctx = FitContext(plug, port, options or Options(), catalog or Catalog(version="diagram", threads={}))
     derive(ctx)
-    depth = ctx.port_depth
-
-    def obstacle(from_seat, from_breakout) -> float | None:
-        if from_seat is not None:
-            return from_seat.nominal
-        if from_breakout is not None and depth is not None:
-            return depth.nominal + from_breakout.nominal
-        return None
-
     return AxialLayout(
         standoff=_nominal(ctx.gasket),
-        port_depth=_nominal(depth),
+        port_depth=_nominal(ctx.port_depth),
         port_depth_long=_nominal(ctx.port_depth_long),
         thread_end=_nominal(ctx.thread_end),
         tip=_nominal(ctx.tip),
-        piston=obstacle(port.seat_to_piston, port.piston_clearance),
-        valve=obstacle(port.seat_to_valve, port.valve_clearance),
+        piston=_nominal(obstacle_distance(ctx, port.seat_to_piston, port.piston_clearance)),
+        valve=_nominal(obstacle_distance(ctx, port.seat_to_valve, port.valve_clearance)),
     )
 
 
@@ -163,46 +155,89 @@ def _symbol(svg: _Svg, severity: str, x: float, y: float, mark: str, size: float
                 fill=text_colour, font_family="sans-serif")
 
 
+@dataclass(frozen=True, slots=True)
+class _Frame:
+    """Where the section sits on the page: one scale along and across the plug axis, the
+    seat face at `origin_y` and the axis at `axis_x`; `bottom` is the drawing's lowest y."""
+
+    scale: float
+    axis_x: float
+    origin_y: float
+    radius: float  # the thread's, mm
+    half_width: float  # mm from the axis to the drawn head's outer edge
+    bottom: float
+    tilt: float  # tan θ: how the crown, square to the cylinder axis, leans in the plug's frame
+
+    def x(self, mm: float) -> float:
+        return self.axis_x + mm * self.scale
+
+    def y(self, mm: float) -> float:
+        return self.origin_y + mm * self.scale
+
+    def crown(self, across_mm: float, piston_mm: float) -> float:
+        """The crown's axial position at `across_mm` from the plug axis: nearer the seat on
+        the left, where the drawing puts the shell's low edge."""
+        return piston_mm + across_mm * self.tilt
+
+
 def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str = "metric",
-                   catalog: Catalog | None = None) -> str:
+                   catalog: Catalog | None = None, options: Options | None = None) -> str:
     """The section drawing as an SVG document (a string), lengths labelled in `units`.
 
-    `catalog` supplies the standard gasket when the plug gives none, exactly as the check
-    used it; without it such a plug is drawn without a known stand-off.
+    `catalog` supplies the standard gasket when the plug gives none, and `options` the
+    gasket condition and indexing washer, exactly as the check used them; without the
+    catalogue such a plug is drawn without a known stand-off.
     """
-    layout = axial_layout(plug, port, catalog)
-    diameter = _diameter_from(plug.thread) or _diameter_from(port.thread) or 14.0
-    radius = diameter / 2.0
-    standoff = layout.standoff if layout.standoff is not None else 0.0
-    hex_half = (plug.hex / 2.0) if plug.hex else radius + 3.0
-
-    known = [v for v in (layout.port_depth, layout.port_depth_long, layout.thread_end, layout.tip,
-                         layout.piston, layout.valve) if v is not None]
-    top_mm = -(standoff + STUB_MM)
-    bottom_mm = max(known + [12.0]) + 5.0
-    half_width_mm = radius + HEAD_WALL_MM
-    scale = min(MAX_DRAWING_HEIGHT_PX / (bottom_mm - top_mm), MAX_HALF_WIDTH_PX / half_width_mm)
-    scale = max(MIN_PX_PER_MM, min(MAX_PX_PER_MM, scale))
-    axis_x = 40.0 + half_width_mm * scale
-    origin_y = DRAWING_TOP_PX - top_mm * scale
-
-    def y(mm: float) -> float:
-        return origin_y + mm * scale
-
-    def x(mm: float) -> float:
-        return axis_x + mm * scale
-
-    drawing_bottom = y(bottom_mm)
+    layout = axial_layout(plug, port, catalog, options)
+    frame = _frame(plug, port, layout)
     findings = list(result.findings)
     legend_rows = _legend_rows(findings, [f["message"] for f in result_document(result, units)["findings"]])
-    legend_height = sum(20.0 + 13.0 * len(lines) for _, _, _, lines in legend_rows)
-    height = drawing_bottom + 60.0 + legend_height + 50.0
+    height = frame.bottom + 60.0 + sum(20.0 + 13.0 * len(lines) for _, _, _, lines in legend_rows) + 50.0
+    standoff = layout.standoff if layout.standoff is not None else 0.0
+    hex_half = (plug.hex / 2.0) if plug.hex else frame.radius + 3.0
 
     svg = _Svg()
+    _heading(svg, plug, port, result, frame, units, height)
+    _draw_piston(svg, layout, frame)  # first: where a leaning crown runs under the head, the head hides it
+    _draw_head(svg, port, layout, frame)
+    _draw_valve(svg, layout, frame)
+    _draw_gasket(svg, plug, standoff, frame)
+    _plug_section(svg, plug, layout, frame, hex_half, standoff)
+    _draw_governing_point(svg, result, layout, frame)
+    _draw_dimensions(svg, _dimensions(result, layout, frame, units), frame)
+    _draw_markers(svg, findings, _anchors(layout, standoff), frame)
+    _draw_scale_bar(svg, frame, units)
+    _draw_legend(svg, legend_rows, frame, height)
+    svg.raw("</svg>")
+    return '<?xml version="1.0" encoding="UTF-8"?>\n' + "\n".join(svg.parts) + "\n"
+
+
+def _frame(plug: PlugSpec, port: PortSpec, layout: AxialLayout) -> _Frame:
+    """One scale that fits the section's height and width into the drawing area."""
+    diameter = _diameter_from(plug.thread) or _diameter_from(port.thread) or 14.0
+    radius = diameter / 2.0
+    half_width = radius + HEAD_WALL_MM
+    tilt = math.tan(math.radians(port.plug_inclination_deg or 0.0))
+    standoff = layout.standoff if layout.standoff is not None else 0.0
+    known = [v for v in (layout.port_depth, layout.port_depth_long, layout.thread_end, layout.tip,
+                         layout.valve) if v is not None]
+    if layout.piston is not None:
+        known.append(layout.piston + half_width * tilt)  # the crown's lowest drawn point
+    top_mm = -(standoff + STUB_MM)
+    bottom_mm = max(known + [12.0]) + 5.0
+    scale = min(MAX_DRAWING_HEIGHT_PX / (bottom_mm - top_mm), MAX_HALF_WIDTH_PX / half_width)
+    scale = max(MIN_PX_PER_MM, min(MAX_PX_PER_MM, scale))
+    origin_y = DRAWING_TOP_PX - top_mm * scale
+    return _Frame(scale, 40.0 + half_width * scale, origin_y, radius, half_width, origin_y + bottom_mm * scale, tilt)
+
+
+def _heading(svg: _Svg, plug: PlugSpec, port: PortSpec, result: FitResult, frame: _Frame, units: str,
+             height: float) -> None:
     svg.raw(
         f'<svg xmlns="http://www.w3.org/2000/svg" width="{WIDTH_PX}" height="{height:.0f}" '
-        f'viewBox="0 0 {WIDTH_PX} {height:.0f}" data-px-per-mm="{scale:.6f}" data-origin-y="{origin_y:.6f}" '
-        f'data-axis-x="{axis_x:.6f}" data-units={quoteattr(units)} font-family="sans-serif">'
+        f'viewBox="0 0 {WIDTH_PX} {height:.0f}" data-px-per-mm="{frame.scale:.6f}" '
+        f'data-origin-y="{frame.origin_y:.6f}" data-axis-x="{frame.axis_x:.6f}" data-units={quoteattr(units)} '
+        'font-family="sans-serif">'
     )
     svg.element("title", f"Plug {plug.thread} {plug.seat} seat in port {port.thread} {port.seat} seat: "
                          f"verdict {result.verdict}")
@@ -212,110 +247,159 @@ def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str
     svg.element("text", f"Plug {plug.thread} ({plug.seat} seat) in port {port.thread} ({port.seat} seat)",
                 x=20, y=28, font_size=17, font_weight="bold", fill="#111")
     svg.element("text", f"verdict: {'PASS' if result.verdict == 'pass' else verdict_style['label']}"
-                        f"   ·   section along the plug axis, to scale ({_scale_note(scale, units)})",
+                        f"   ·   section along the plug axis, to scale ({_scale_note(frame.scale, units)})",
                 x=20, y=48, font_size=12, fill="#333")
 
-    anchors: dict[str, float] = {"seat_face": 0.0, "hex": -standoff - STUB_MM / 2.0}
-    roof_x_left, roof_x_right = -half_width_mm, half_width_mm
 
-    # --- the head: hatched material either side of the bore, down to the chamber roof ---
+def _draw_head(svg: _Svg, port: PortSpec, layout: AxialLayout, frame: _Frame) -> None:
+    """Hatched head material either side of the bore down to the chamber roof (short side
+    left, long side right), the port's thread, the roof line and the seat face datum."""
+    x, y, radius, half_width = frame.x, frame.y, frame.radius, frame.half_width
     depth = layout.port_depth
-    depth_long = layout.port_depth_long if layout.port_depth_long is not None else depth
     if depth is not None:
-        def roof(mm_x: float) -> float:
-            return depth + (mm_x + radius) * (depth_long - depth) / diameter
+        depth_long = layout.port_depth_long if layout.port_depth_long is not None else depth
 
-        seat_top = 0.0
-        left = [(roof_x_left, seat_top), (-radius, seat_top), (-radius, depth), (roof_x_left, roof(roof_x_left))]
-        right = [(radius, seat_top), (roof_x_right, seat_top), (roof_x_right, roof(roof_x_right)), (radius, depth_long)]
+        def roof(mm_x: float) -> float:
+            return depth + (mm_x + radius) * (depth_long - depth) / (2.0 * radius)
+
+        left = [(-half_width, 0.0), (-radius, 0.0), (-radius, depth), (-half_width, roof(-half_width))]
+        right = [(radius, 0.0), (half_width, 0.0), (half_width, roof(half_width)), (radius, depth_long)]
         if port.seat == "conical":
             taper = math.tan(math.radians(CONICAL_SEAT_HALF_ANGLE_DEG))
             gauge_r, rise = radius + 1.0, 2.5
-            left = [(roof_x_left, -rise), (-(gauge_r + rise * taper), -rise), (-radius, 1.0 / taper),
-                    (-radius, depth), (roof_x_left, roof(roof_x_left))]
-            right = [(gauge_r + rise * taper, -rise), (roof_x_right, -rise), (roof_x_right, roof(roof_x_right)),
+            left = [(-half_width, -rise), (-(gauge_r + rise * taper), -rise), (-radius, 1.0 / taper),
+                    (-radius, depth), (-half_width, roof(-half_width))]
+            right = [(gauge_r + rise * taper, -rise), (half_width, -rise), (half_width, roof(half_width)),
                      (radius, depth_long), (radius, 1.0 / taper)]
         for polygon, side in ((left, "short"), (right, "long")):
             svg.element("polygon", points=" ".join(f"{x(px):.2f},{y(py):.2f}" for px, py in polygon),
                         fill="url(#hatch-head)", stroke="#222", stroke_width=1.4, data_part=f"head-{side}-side")
         # the port's own thread on the bore walls: visible wherever the plug leaves it bare
         thread_top = 1.0 / math.tan(math.radians(CONICAL_SEAT_HALF_ANGLE_DEG)) if port.seat == "conical" else 0.0
-        _wall_teeth(svg, x(-radius), y(thread_top), y(depth), -1, 1.25 * scale)
-        _wall_teeth(svg, x(radius), y(thread_top), y(depth_long), 1, 1.25 * scale)
+        _wall_teeth(svg, x(-radius), y(thread_top), y(depth), -1, 1.25 * frame.scale)
+        _wall_teeth(svg, x(radius), y(thread_top), y(depth_long), 1, 1.25 * frame.scale)
         # the chamber surface (roof), drawn across the bore too
         svg.element("line", x1=x(-radius), y1=y(depth), x2=x(radius), y2=y(depth_long), stroke="#555",
                     stroke_width=1.0, stroke_dasharray="10 3 2 3",
                     data_feature="chamber_surface", data_axial_mm=f"{depth:.6f}")
         _feature_tick(svg, "port_depth", depth, x(-radius), y(depth), x(-radius - 2.0))
         _feature_tick(svg, "port_depth_long", depth_long, x(radius), y(depth_long), x(radius + 2.0))
-        _label(svg, "chamber surface", x(roof_x_left) + 6, y(roof(roof_x_left)) - 5, italic=True)
-        _label(svg, "cylinder head", x(roof_x_left) + 6, y(min(depth, 6.0) / 2.0) + 4, bold=True)
+        _label(svg, "chamber surface", x(-half_width) + 6, y(roof(-half_width)) - 5, italic=True)
+        _label(svg, "cylinder head", x(-half_width) + 6, y(min(depth, 6.0) / 2.0) + 4, bold=True)
     # the seat face (origin): a long dash-dot datum line
-    svg.element("line", x1=x(-half_width_mm) - 10, y1=y(0.0), x2=x(half_width_mm) + 10, y2=y(0.0),
+    svg.element("line", x1=x(-half_width) - 10, y1=y(0.0), x2=x(half_width) + 10, y2=y(0.0),
                 stroke="#000", stroke_width=1.0, stroke_dasharray="14 3 3 3",
                 data_feature="seat_face", data_axial_mm="0")
 
-    # --- piston crown at top dead centre ---
+
+def _draw_piston(svg: _Svg, layout: AxialLayout, frame: _Frame) -> None:
+    """The piston crown at top dead centre, square to the cylinder axis: across the plug's
+    frame it leans by the plug's inclination. `data-axial-mm` is where it crosses the axis."""
+    piston = layout.piston
+    if piston is None:
+        return
+    x, y, half_width = frame.x, frame.y, frame.half_width
+    left, right = frame.crown(-half_width, piston), frame.crown(half_width, piston)
+    outline = [(x(-half_width), y(left)), (x(half_width), y(right)), (x(half_width), max(frame.bottom, y(right) + 6)),
+               (x(-half_width), max(frame.bottom, y(left) + 6))]
+    svg.element("polygon", points=" ".join(f"{px:.2f},{py:.2f}" for px, py in outline), fill="url(#hatch-piston)",
+                stroke="none")
+    svg.element("line", x1=x(-half_width), y1=y(left), x2=x(half_width), y2=y(right), stroke="#000",
+                stroke_width=2.2, data_feature="piston_crown", data_axial_mm=f"{piston:.6f}")
+    _label(svg, "piston crown at TDC", x(-half_width) + 6, max(y(left) + 16, frame.bottom - 8), bold=True)
+
+
+def _draw_valve(svg: _Svg, layout: AxialLayout, frame: _Frame) -> None:
+    """The valve at its closest approach: rim at the given depth, head below, stem above."""
+    if layout.valve is None:
+        return
+    rim = frame.y(layout.valve)
+    left_edge, right_edge = frame.x(frame.radius + 0.8), frame.x(frame.half_width - 0.8)
+    stem = (left_edge + right_edge) / 2.0
+    disc = 1.8 * frame.scale
+    path = (f"M{left_edge:.2f},{rim:.2f} L{right_edge:.2f},{rim:.2f} L{right_edge:.2f},{rim + disc * 0.6:.2f} "
+            f"L{right_edge - disc * 0.5:.2f},{rim + disc:.2f} L{left_edge + disc * 0.5:.2f},{rim + disc:.2f} "
+            f"L{left_edge:.2f},{rim + disc * 0.6:.2f} Z")
+    svg.element("path", d=path, fill="#f2f2f2", stroke="#000", stroke_width=1.4, stroke_dasharray="5 2",
+                data_part="valve")
+    svg.element("path", d=f"M{stem - 3:.2f},{rim:.2f} L{stem - 3:.2f},{rim - 30:.2f} M{stem + 3:.2f},{rim:.2f} "
+                          f"L{stem + 3:.2f},{rim - 30:.2f}", fill="none", stroke="#000", stroke_width=1.0,
+                stroke_dasharray="5 2")
+    svg.element("line", x1=left_edge, y1=rim, x2=right_edge, y2=rim, stroke="#000", stroke_width=2.0,
+                data_feature="valve", data_axial_mm=f"{layout.valve:.6f}")
+    _label(svg, "valve at closest approach", right_edge, rim + disc + 13, size=10, anchor="end")
+
+
+def _draw_gasket(svg: _Svg, plug: PlugSpec, standoff: float, frame: _Frame) -> None:
+    """The gasket (with any indexing washer) of a flat-seat plug, between its seat and the head's."""
+    if plug.seat != "flat" or not standoff:
+        return
+    x, scale, radius = frame.x, frame.scale, frame.radius
+    gasket_top = frame.y(-standoff)
+    for side in (-1, 1):
+        inner, outer = radius + 0.2, radius + 3.6
+        x0 = x(side * outer) if side < 0 else x(inner)
+        svg.element("rect", x=x0, y=gasket_top, width=(outer - inner) * scale, height=standoff * scale,
+                    fill="url(#dots-gasket)", stroke="#000", stroke_width=1.0)
+    svg.element("line", x1=x(-radius - 3.6), y1=gasket_top, x2=x(radius + 3.6), y2=gasket_top,
+                stroke="#000", stroke_width=0.8, stroke_dasharray="3 2",
+                data_feature="gasket_top", data_axial_mm=f"{-standoff:.6f}")
+    svg.element("text", "gasket", x=x(-radius - 3.6) - 6, y=gasket_top + standoff * scale / 2 + 4,
+                font_size=11, text_anchor="end", fill="#111")
+
+
+def _governing_point(result: FitResult, layout: AxialLayout, frame: _Frame) -> tuple[str, float, float] | None:
+    """(feature, mm across the axis, mm along it) of the plug's point nearest the piston,
+    as the check found it (`analysis.piston`); None without a piston margin."""
+    piston = result.analysis.get("piston")
+    if piston is None or layout.tip is None or layout.thread_end is None:
+        return None
+    if piston.get("governing_feature") == SHELL_EDGE:
+        return SHELL_EDGE, -frame.radius, layout.thread_end
+    return TIP, 0.0, layout.tip
+
+
+def _draw_governing_point(svg: _Svg, result: FitResult, layout: AxialLayout, frame: _Frame) -> None:
+    """A ringed point where the plug comes nearest the piston: the electrode tip, or the low
+    edge of the shell's thread end when the plug's inclination brings that nearer."""
+    point = _governing_point(result, layout, frame)
+    if point is None:
+        return
+    feature, across, along = point
+    cx, cy = frame.x(across), frame.y(along)
+    svg.element("circle", cx=cx, cy=cy, r=5.0, fill="none", stroke="#a4161a", stroke_width=1.8,
+                data_feature="piston_governing_point", data_governing=feature, data_axial_mm=f"{along:.6f}",
+                data_across_mm=f"{across:.6f}")
+    name = "shell edge" if feature == SHELL_EDGE else "electrode tip"
+    _label(svg, f"nearest the piston: {name}", cx + 8, cy + 16, size=10)
+
+
+def _anchors(layout: AxialLayout, standoff: float) -> dict[str, float]:
+    """Axial positions (mm) the finding markers point at, by name (see CHECK_ANCHORS)."""
+    anchors: dict[str, float] = {"seat_face": 0.0, "hex": -standoff - STUB_MM / 2.0}
     if layout.piston is not None:
         anchors["piston_crown"] = layout.piston
-        top = y(layout.piston)
-        svg.element("rect", x=x(-half_width_mm), y=top, width=2 * half_width_mm * scale,
-                    height=max(6.0, drawing_bottom - top), fill="url(#hatch-piston)", stroke="none")
-        svg.element("line", x1=x(-half_width_mm), y1=top, x2=x(half_width_mm), y2=top, stroke="#000",
-                    stroke_width=2.2, data_feature="piston_crown", data_axial_mm=f"{layout.piston:.6f}")
-        _label(svg, "piston crown at TDC", x(-half_width_mm) + 6, top + 16, bold=True)
-
-    # --- valve at its closest approach: rim at the given depth, head below, stem above ---
     if layout.valve is not None:
         anchors["valve"] = layout.valve
-        rim = y(layout.valve)
-        left_edge, right_edge = x(radius + 0.8), x(half_width_mm - 0.8)
-        stem = (left_edge + right_edge) / 2.0
-        disc = 1.8 * scale
-        path = (f"M{left_edge:.2f},{rim:.2f} L{right_edge:.2f},{rim:.2f} L{right_edge:.2f},{rim + disc * 0.6:.2f} "
-                f"L{right_edge - disc * 0.5:.2f},{rim + disc:.2f} L{left_edge + disc * 0.5:.2f},{rim + disc:.2f} "
-                f"L{left_edge:.2f},{rim + disc * 0.6:.2f} Z")
-        svg.element("path", d=path, fill="#f2f2f2", stroke="#000", stroke_width=1.4, stroke_dasharray="5 2",
-                    data_part="valve")
-        svg.element("path", d=f"M{stem - 3:.2f},{rim:.2f} L{stem - 3:.2f},{rim - 30:.2f} M{stem + 3:.2f},{rim:.2f} "
-                              f"L{stem + 3:.2f},{rim - 30:.2f}", fill="none", stroke="#000", stroke_width=1.0,
-                    stroke_dasharray="5 2")
-        svg.element("line", x1=left_edge, y1=rim, x2=right_edge, y2=rim, stroke="#000", stroke_width=2.0,
-                    data_feature="valve", data_axial_mm=f"{layout.valve:.6f}")
-        _label(svg, "valve at closest approach", right_edge, rim + disc + 13, size=10, anchor="end")
-
-    # --- gasket (flat seat) ---
-    if plug.seat == "flat" and layout.standoff:
-        gasket_top = y(-standoff)
-        for side in (-1, 1):
-            inner, outer = radius + 0.2, radius + 3.6
-            x0 = x(side * outer) if side < 0 else x(inner)
-            svg.element("rect", x=x0, y=gasket_top, width=(outer - inner) * scale, height=standoff * scale,
-                        fill="url(#dots-gasket)", stroke="#000", stroke_width=1.0)
-        svg.element("line", x1=x(-radius - 3.6), y1=gasket_top, x2=x(radius + 3.6), y2=gasket_top,
-                    stroke="#000", stroke_width=0.8, stroke_dasharray="3 2",
-                    data_feature="gasket_top", data_axial_mm=f"{-standoff:.6f}")
-        svg.element("text", "gasket", x=x(-radius - 3.6) - 6, y=gasket_top + standoff * scale / 2 + 4,
-                    font_size=11, text_anchor="end", fill="#111")
-
-    # --- the plug, in section: shell walls, insulator, electrodes ---
-    _plug_section(svg, plug, layout, radius, hex_half, standoff, scale, x, y)
     if layout.thread_end is not None:
         anchors["thread_end"] = layout.thread_end
         anchors["thread"] = layout.thread_end / 2.0
     if layout.tip is not None:
         anchors["tip"] = layout.tip
+    return anchors
 
-    # --- dimensions, to the right of the head ---
-    dims = _dimensions(result, layout, units)
-    column_x = x(half_width_mm) + 28.0
+
+def _draw_dimensions(svg: _Svg, dims: list[tuple[str, float, float, str]], frame: _Frame) -> None:
+    """Dimension lines in columns to the right of the head, labels stacked clear of each other."""
+    x, y = frame.x, frame.y
+    column_x = x(frame.half_width) + 28.0
     label_x = column_x + 18.0 * max(1, len(dims)) + 12.0
     label_ys: list[float] = []
     for index, (name, start_mm, end_mm, text) in enumerate(dims):
         dx = column_x + 18.0 * index
         y0, y1 = y(start_mm), y(end_mm)
         for ext in (y0, y1):
-            svg.element("line", x1=x(radius), y1=ext, x2=dx + 4, y2=ext, stroke="#777", stroke_width=0.6,
+            svg.element("line", x1=x(frame.radius), y1=ext, x2=dx + 4, y2=ext, stroke="#777", stroke_width=0.6,
                         stroke_dasharray="2 2")
         if abs(y1 - y0) >= 8:
             svg.element("line", x1=dx, y1=y0, x2=dx, y2=y1, stroke="#111", stroke_width=1.1,
@@ -335,32 +419,39 @@ def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str
         if second:
             svg.element("text", second, x=label_x, y=placed + 13, font_size=10.5, fill="#333")
 
-    # --- finding markers on the drawing ---
-    marker_offsets: dict[str, int] = {}
+
+def _draw_markers(svg: _Svg, findings: list[Finding], anchors: dict[str, float], frame: _Frame) -> None:
+    """Each listed finding's numbered symbol beside the head, with a leader to its feature."""
+    offsets: dict[str, int] = {}
     for number, finding in enumerate(_listed(findings), start=1):
         if finding.code == "NOT_CHECKED":
             continue
         anchor = CHECK_ANCHORS.get(finding.check)
         if anchor not in anchors:
             anchor = "seat_face"
-        count = marker_offsets.get(anchor, 0)
-        marker_offsets[anchor] = count + 1
-        mx, my = x(-half_width_mm) - 18.0, y(anchors[anchor]) + 19.0 * count
-        my = min(max(my, DRAWING_TOP_PX), drawing_bottom)
-        svg.element("line", x1=mx + 8, y1=my, x2=x(-radius), y2=y(anchors[anchor]),
-                    stroke=SEVERITY_STYLE[finding.severity]["colour"], stroke_width=1.2,
-                    stroke_dasharray=SEVERITY_STYLE[finding.severity]["dash"] or None)
+        count = offsets.get(anchor, 0)
+        offsets[anchor] = count + 1
+        mx, my = frame.x(-frame.half_width) - 18.0, frame.y(anchors[anchor]) + 19.0 * count
+        my = min(max(my, DRAWING_TOP_PX), frame.bottom)
+        style = SEVERITY_STYLE[finding.severity]
+        svg.element("line", x1=mx + 8, y1=my, x2=frame.x(-frame.radius), y2=frame.y(anchors[anchor]),
+                    stroke=style["colour"], stroke_width=1.2, stroke_dasharray=style["dash"] or None)
         _symbol(svg, finding.severity, mx, my, str(number))
 
-    # --- scale bar ---
+
+def _draw_scale_bar(svg: _Svg, frame: _Frame, units: str) -> None:
     bar_mm = 5.0 if units == "metric" else MM_PER_INCH / 4.0
     bar_label = "5 mm" if units == "metric" else "1/4 in"
-    bx, by = 40.0, drawing_bottom + 24.0
-    svg.element("rect", x=bx, y=by - 4, width=bar_mm * scale, height=6, fill="#000", data_scale_bar_mm=f"{bar_mm:.4f}")
-    svg.element("text", bar_label, x=bx + bar_mm * scale + 6, y=by + 2, font_size=11, fill="#111")
+    bx, by = 40.0, frame.bottom + 24.0
+    svg.element("rect", x=bx, y=by - 4, width=bar_mm * frame.scale, height=6, fill="#000",
+                data_scale_bar_mm=f"{bar_mm:.4f}")
+    svg.element("text", bar_label, x=bx + bar_mm * frame.scale + 6, y=by + 2, font_size=11, fill="#111")
 
-    # --- legend ---
-    ly = drawing_bottom + 52.0
+
+def _draw_legend(svg: _Svg, legend_rows: list[tuple[str, str, str, list[str]]], frame: _Frame,
+                 height: float) -> None:
+    """The numbered findings with their messages, then the caution."""
+    ly = frame.bottom + 52.0
     svg.element("text", "Findings", x=40, y=ly, font_size=13, font_weight="bold", fill="#111")
     for mark, severity, heading, lines in legend_rows:
         ly += 20.0
@@ -371,8 +462,6 @@ def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str
             ly += 13.0
             svg.element("text", line, x=66, y=ly, font_size=10.5, fill="#333")
     svg.element("text", CAUTION, x=20, y=height - 16, font_size=10.5, fill="#333", font_style="italic")
-    svg.raw("</svg>")
-    return '<?xml version="1.0" encoding="UTF-8"?>\n' + "\n".join(svg.parts) + "\n"
 
 
 def _label(svg: _Svg, text: str, x: float, y: float, size: float = 11.0, anchor: str = "start",
@@ -431,14 +520,15 @@ def _thread_teeth(svg: _Svg, left: float, right: float, top: float, bottom: floa
         svg.element("polyline", points=" ".join(points), fill="none", stroke="#333", stroke_width=0.9)
 
 
-def _plug_section(svg: _Svg, plug: PlugSpec, layout: AxialLayout, radius: float, hex_half: float,
-                  standoff: float, scale: float, x, y) -> None:
+def _plug_section(svg: _Svg, plug: PlugSpec, layout: AxialLayout, frame: _Frame, hex_half: float,
+                  standoff: float) -> None:
     """The plug cut along its axis: shell walls (hex stub and thread), the insulator and
     its nose, the centre electrode and the ground electrode, ending at the tip position.
 
     Wall thickness, insulator and electrode sizes are schematic; the seat, thread end and
     tip are at their computed positions.
     """
+    x, y, scale, radius = frame.x, frame.y, frame.scale, frame.radius
     bore = radius * 0.64  # schematic inner radius of the shell
     conical = plug.seat == "conical"
     taper = math.tan(math.radians(CONICAL_SEAT_HALF_ANGLE_DEG))
@@ -503,20 +593,30 @@ def _bounds_text(name: str, entry: Bounds, units: str, signed: bool = False) -> 
             f"worst case {_format_length(entry.min, units, signed)} to {_format_length(entry.max, units, signed)}")
 
 
-def _dimensions(result: FitResult, layout: AxialLayout, units: str) -> list[tuple[str, float, float, str]]:
-    """(name, from mm, to mm, label) for each margin the drawing dimensions."""
+def _dimensions(result: FitResult, layout: AxialLayout, frame: _Frame,
+                units: str) -> list[tuple[str, float, float, str]]:
+    """(name, from mm, to mm, label) for each margin the drawing dimensions; the piston
+    margin from the plug's point nearest the piston to the crown above that point."""
     dims: list[tuple[str, float, float, str]] = []
     geometry = result.geometry
     if layout.port_depth is not None:
         dims.append(("port_depth", 0.0, layout.port_depth,
                      f"port depth {_format_length(layout.port_depth, units)}\nseat face to chamber (short side)"))
-    if "thread_protrusion" in geometry and layout.thread_end is not None and layout.port_depth is not None:
-        entry = geometry["thread_protrusion"]
-        name = "thread protrusion" if entry.nominal >= 0 else "thread recess"
-        dims.append(("thread_protrusion", layout.port_depth, layout.thread_end,
-                     _bounds_text(name, entry, units, signed=True)))
-    if "piston_margin" in geometry and layout.tip is not None and layout.piston is not None:
-        dims.append(("piston_margin", layout.tip, layout.piston,
+    inclined = layout.port_depth_long != layout.port_depth
+    for name, depth, side in (("protrusion_short_side", layout.port_depth, ", short side"),
+                              ("protrusion_long_side", layout.port_depth_long, ", long side")):
+        entry = geometry.get(name)
+        if entry is None or layout.thread_end is None or depth is None:
+            continue
+        if name == "protrusion_long_side" and not inclined:
+            continue  # a flat roof: one side says it all
+        word = "protrusion" if entry.nominal >= 0 else "recess"
+        dims.append((name, depth, layout.thread_end,
+                     _bounds_text(word + (side if inclined else ""), entry, units, signed=True)))
+    point = _governing_point(result, layout, frame)
+    if "piston_margin" in geometry and point is not None and layout.piston is not None:
+        _feature, across, along = point
+        dims.append(("piston_margin", along, frame.crown(across, layout.piston),
                      _bounds_text("piston margin", geometry["piston_margin"], units)))
     if "valve_margin" in geometry and layout.tip is not None and layout.valve is not None:
         dims.append(("valve_margin", layout.tip, layout.valve,

@@ -64,6 +64,6 @@ def draw_check(request: dict, catalog: Catalog, find_plug: Lookup, find_head: Lo
     raises `UnknownReference`, as for the check itself.
     """
     plug, head = resolve(request, find_plug, find_head)
-    plug_data, port_data = plug_spec(plug), port_spec(head)
-    result = check_fit(plug_data, port_data, options_from(request.get("options")), catalog)
-    return render_fit_svg(plug_data, port_data, result, units, catalog=catalog)
+    plug_data, port_data, options = plug_spec(plug), port_spec(head), options_from(request.get("options"))
+    result = check_fit(plug_data, port_data, options, catalog)
+    return render_fit_svg(plug_data, port_data, result, units, catalog=catalog, options=options)

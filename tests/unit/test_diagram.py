@@ -5,6 +5,7 @@ e = reach − s, t = e + firing_end, piston at port depth + piston clearance.
 """
 from __future__ import annotations
 
+import math
 import xml.etree.ElementTree as ET
 
 import cairosvg
@@ -63,6 +64,39 @@ def test_the_piston_margin_on_the_drawing_measures_what_the_engine_computed():
     # hand-worked: 21.0 − 20.5 = 0.5 mm, and the engine's nominal margin (no dynamic allowance)
     assert drawn_mm == pytest.approx(0.5, abs=0.01)
     assert drawn_mm == pytest.approx(result.geometry["piston_margin"].nominal, abs=0.01)
+
+
+def test_the_drawing_marks_the_point_nearest_the_piston_and_leans_the_crown_with_the_plug():
+    """Hand-worked (contract geometry, θ = 30°): e = 19.05 − 1.5 = 17.55, t = 20.55,
+    O = 17.55 + 5.0 = 22.55 at the plug axis. A crown square to the cylinder axis meets
+    the line r = 7 mm off the axis r·tan θ = 4.041 mm sooner, at 18.509 mm: the shell's
+    low edge (at 17.55) is 0.959 mm from it, the tip 2.0 mm. The edge governs."""
+    plug = PlugSpec(thread="M14x1.25", seat="flat", reach=Dim(19.05), gasket_thickness=Dim(1.5),
+                    firing_end=Dim(3.0))
+    port = PortSpec(thread="M14x1.25", seat="flat", port_depth=Dim(17.55), piston_clearance=Dim(5.0),
+                    plug_inclination_deg=30.0)
+    result, svg = _render(plug, port)
+    root = ET.fromstring(svg.encode())
+    scale, origin, axis = (float(root.get(name)) for name in ("data-px-per-mm", "data-origin-y", "data-axis-x"))
+    point = _features(root)["piston_governing_point"]
+    assert point.get("data-governing") == "shell_edge" == result.analysis["piston"]["governing_feature"]
+    assert float(point.get("cx")) == pytest.approx(axis - 7.0 * scale, abs=0.01)
+    assert float(point.get("cy")) == pytest.approx(origin + 17.55 * scale, abs=0.01)
+    crown = _features(root)["piston_crown"]
+    x1, y1, x2, y2 = (float(crown.get(name)) for name in ("x1", "y1", "x2", "y2"))
+    at_edge = y1 + (y2 - y1) * ((axis - 7.0 * scale) - x1) / (x2 - x1)  # the crown's line at x = -r
+    assert (at_edge - origin) / scale == pytest.approx(22.55 - 7.0 * math.tan(math.radians(30.0)), abs=0.01)
+    dimension = next(e for e in root.iter() if e.get("data-dimension") == "piston_margin")
+    drawn = abs(float(dimension.get("y2")) - float(dimension.get("y1"))) / scale
+    assert drawn == pytest.approx(0.9585, abs=0.01) == pytest.approx(result.geometry["piston_margin"].nominal, abs=0.01)
+    text = "".join(root.itertext())
+    assert "nearest the piston: shell edge" in text
+
+
+def test_without_an_inclination_the_tip_is_the_point_nearest_the_piston():
+    _, svg = _render()
+    point = _features(ET.fromstring(svg.encode()))["piston_governing_point"]
+    assert point.get("data-governing") == "tip" and float(point.get("data-axial-mm")) == pytest.approx(20.5)
 
 
 def test_the_scale_bar_is_five_millimetres_long_in_metric_and_a_quarter_inch_in_imperial():
