@@ -5,9 +5,9 @@ The options are the build list's CSV columns written as options (`plug_reach` is
 read exactly like CSV cells: `--plug-reach "0.75 in"`, `--head-port-depth "17.5 ± 0.2"`.
 Both lists come from the schemas, so a field added there is an option here.
 
-Exit codes: 0 the plug fits (pass, or warn unless --fail-on warn), 1 it does not,
-2 the request cannot be used (a field that cannot be read, an unknown sku or head_id,
-a wrong option).
+Exit codes: 0 nothing failed (pass, or warn: a warning may still need a look; with
+--fail-on warn a warning exits 1), 1 a check failed, 2 the request cannot be used (a
+field that cannot be read, an unknown sku or head_id, a wrong option).
 """
 from __future__ import annotations
 
@@ -66,7 +66,8 @@ def _cells(values: dict[str, Any]) -> dict[str, str]:
 @click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text", show_default=True,
               help="json: the result document.")
 @click.option("--units", type=click.Choice(["metric", "imperial"]), default="metric", show_default=True)
-@click.option("--fail-on", type=click.Choice(["fail", "warn"]), default="fail", show_default=True)
+@click.option("--fail-on", type=click.Choice(["fail", "warn"]), default="fail", show_default=True,
+              help="warn: a warning exits 1 too.")
 @click.option("--svg", "svg_file", type=click.Path(dir_okay=False, writable=True), metavar="FILE",
               help="Also write the fit as a to-scale SVG drawing (the same as POST /v1/fit-checks/diagram).")
 @click.option("--inventory", multiple=True, type=click.Path(exists=True, dir_okay=False), metavar="FILE",
@@ -79,7 +80,9 @@ def command(request_file: str | None, output_format: str, units: str, fail_on: s
 
     Give the plug inline (--plug-thread, --plug-seat, --plug-reach, ...) or as --sku, and
     the head inline (--head-thread, --head-seat, --head-port-depth, ...) or as --head-id.
-    Exit 0 when it fits, 1 when it does not, 2 when the request cannot be used.
+    Exit 0 when nothing failed (a warning may still need a look; --fail-on warn makes
+    warnings exit 1, for strict pipelines), 1 when a check failed, 2 when the request
+    cannot be used.
     """
     from service.catalog_loader import load_catalog
     from service.cli.lookup import UnusableInput, load_request_file, references_from

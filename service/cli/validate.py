@@ -4,7 +4,8 @@ Embedded by default (the engine and the seeded catalogue in this process, no ser
 or `--server URL` to have a running service check it. Exit codes, which CI relies on
 (`service.cli.common`):
 
-    0  no line fails
+    0  no line fails (a line that warns may still need a look; --fail-on warn for
+       strict pipelines)
     1  a line fails (or warns, with --fail-on warn) or cannot be read
     2  the file as a whole is unusable, or the command line is wrong
     3  the server cannot be reached (or did not answer as a plugfit service)
@@ -288,8 +289,10 @@ def command(build_list: str, server: str | None, api_key: str | None, output_for
             require: list[str], units: str, inventory: tuple[str, ...], jobs: int | None, timeout: float) -> None:
     """Check every line of BUILD_LIST (CSV, or the batch endpoint's JSON; - reads stdin).
 
-    Exit 0 when no line fails, 1 when a line fails or cannot be read, 2 when the file
-    is unusable or the options are wrong, 3 when --server cannot be reached.
+    Exit 0 when no line fails (a line that warns may still need a look; --fail-on warn
+    makes warnings fail the run, for strict pipelines), 1 when a line fails or cannot be
+    read, 2 when the file is unusable or the options are wrong, 3 when --server cannot
+    be reached.
     """
     source = "<stdin>" if build_list == "-" else build_list
     try:
