@@ -136,8 +136,9 @@ HEADS: list[dict[str, Any]] = [
      "intake_temperature": "35 degC", "stroke": 78.5, "rod_length": 129.0, "spark_advance": 27.0,
      "heat_range_band": band(0.40, 0.60), "boot_range": {"min": 52.0, "max": 58.0}},
     {"head_id": "DEMO-H-VAN-I4T", "description": "Demo engine: small-van in-line four, 1.45 L turbocharged, "
-     "inclined chamber roof (port breaks out over 0.8 mm)",
+     "inclined chamber roof (port breaks out over 0.8 mm), plug leaning 20 deg",
      "thread": "M14x1.25", "seat": "flat", "port_depth": tol(17.5, 0.15), "port_depth_long_side": tol(18.3, 0.15),
+     "plug_inclination": 20.0,
      "piston_clearance": tol(8.0, 0.3), "valve_clearance": tol(9.0, 0.4), "well_bore": 25.0, "hex": 16.0,
      "resistor_required": True, "material": "aluminium", "compression_ratio": 9.4, "intake_pressure": 2.2,
      "forced_induction": True, "intake_temperature": "45 degC", "peak_pressure": 120.0, "ignition_voltage": 36.0,
@@ -288,10 +289,16 @@ FEATURED: dict[str, Line] = {
     "DEMO-P-0012": Line("M14x1.25", "conical", 11.7, "standard", 16.0, True, heat(0.40), 0.9, 50.0),
     # A road plug in the hill-climb head: the drawing in docs/engineering.md.
     "DEMO-P-0013": Line("M12x1.25", "flat", 19.0, "short", 14.0, True, heat(0.55), 1.1, 55.5),
+    # The everyday plug sold without its gasket (for indexing-washer sets): fitted bare, it
+    # has no seal and stands a gasket's thickness further in.
+    "DEMO-P-0014": Line("M14x1.25", "flat", 19.0, "standard", 16.0, True, heat(0.50), 0.8, 53.5,
+                        extra={"gasket_thickness": 0.0,
+                               "description": "Demo house line: M14 flat seat, 19 mm reach, standard tip, resistor, "
+                                              "cooling index 0.50, gap 0.8 mm, sold without gasket"}),
 }
 HAND_PLACED_NUMBERS = range(1, 100)
 FIRST_SHELF_NUMBER = 101
-SHELF_LINES = 287  # 300 lines with the 13 hand-placed ones
+SHELF_LINES = 286  # 300 lines with the 14 hand-placed ones
 
 
 def demo_sku(number: int) -> str:
@@ -326,14 +333,18 @@ SHOWCASE = [
     Showcase("DEMO-P-0002", "DEMO-H-VAN-I4", ("RESISTOR_REQUIRED",), verdict="warn"),
     Showcase("DEMO-P-0003", "DEMO-H-AIRBOAT-2T", ("PISTON_CONTACT",), verdict="fail"),
     Showcase("DEMO-P-0004", "DEMO-H-IRRIGATION-I2", ("HEX_DIFFERS",), verdict="pass"),
-    Showcase("DEMO-P-0005", "DEMO-H-VAN-I4", ("REACH_LONG",)),
+    Showcase("DEMO-P-0005", "DEMO-H-VAN-I4", ("REACH_LONG",), verdict="fail"),
+    Showcase("DEMO-P-0001", "DEMO-H-VAN-I4", ("INDEXING_WASHER", "REACH_SHORT"), options={"indexing_washer": "0.8 mm"},
+             verdict="warn"),
+    Showcase("DEMO-P-0001", "DEMO-H-VAN-I4T", ("REACH_INCLINED_ROOF",)),
+    Showcase("DEMO-P-0014", "DEMO-H-VAN-I4", ("GASKET_MISSING", "REACH_LONG"), verdict="fail"),
     Showcase("DEMO-P-0005", "DEMO-H-TRUCK-I4", verdict="pass"),
     Showcase("DEMO-P-0006", "DEMO-H-TRUCK-I4", ("BOOT_ENGAGEMENT",), verdict="warn"),
     Showcase("DEMO-P-0009", "DEMO-H-KART-2T", ("THREAD_STRIP_RISK",)),
     Showcase("DEMO-P-0009", "DEMO-H-ENDURO", ("TOOL_CLEARANCE",), verdict="fail"),
     Showcase("DEMO-P-0011", "DEMO-H-RACE", ("VALVE_CONTACT",), verdict="fail"),
     Showcase("DEMO-P-0013", "DEMO-H-RACE", ("REACH_SHORT", "GAP_VOLTAGE_MARGIN", "HEAT_RANGE_OUT_OF_BAND",
-                                            "BOOT_ENGAGEMENT"), verdict="warn", drawing=True),
+                                            "BOOT_ENGAGEMENT"), verdict="fail", drawing=True),
 ]
 
 
