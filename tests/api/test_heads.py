@@ -29,6 +29,7 @@ HEAD = {
     "stroke": 90.0,
     "rod_length": 150.0,
     "spark_advance": 30,
+    "plug_inclination": "0.25 rad",
 }
 
 
@@ -50,6 +51,8 @@ def test_a_created_head_keeps_every_value_and_tolerance(client, auth):
     assert body["intake_temperature"] == {"value": 320.0, "unit": "K"}  # with its unit: a bare number means degC
     assert body["peak_pressure"] == {"value": 60.0, "unit": "bar"}
     assert body["material"] == "aluminium"
+    # 0.25 rad = 14.324 deg (1 rad = 180/pi deg, SI Brochure 9th ed., table 4), to 0.001 deg
+    assert body["plug_inclination"] == {"value": 14.324, "unit": "deg"}
 
 
 def test_a_head_read_back_can_be_sent_back_unchanged(client, auth):
@@ -82,6 +85,9 @@ def test_creating_a_head_id_that_exists_is_a_409_problem(client, auth):
     ("intake_pressure", "-1 bar"),
     ("ignition_voltage", "30 mm"),
     ("compression_ratio", "abc"),
+    ("plug_inclination", 80),  # past 75 deg a plug is a side plug: another clearance model
+    ("plug_inclination", "-5 deg"),
+    ("plug_inclination", "5 mm"),
 ])
 def test_a_head_that_cannot_exist_is_a_422_naming_the_field(client, auth, field, value):
     body = problem(client.post("/v1/heads", json={**HEAD, field: value}, headers=auth), 422)
