@@ -52,15 +52,19 @@ _DYNAMIC_ALLOWANCE_NOTE = _default_note("dynamic_allowance", DYNAMIC_ALLOWANCE_M
 
 
 @lru_cache(maxsize=64)
-def _pitch_default(name: str, thread: str, pitches: float, source: str) -> tuple[float, str] | None:
-    """A default counted in pitches of `thread` (mm, and its assumption), or None when the
-    designation gives no pitch. Keyed by strings and a float, which hash in C (a frozen
-    dataclass such as `Default` hashes in Python code)."""
+def _default_reach_limits(thread: str) -> tuple[tuple[float | None, str | None], tuple[float | None, str | None]]:
+    """The default `max_protrusion` and `max_recess` of a port thread, counted in its
+    pitches, each with the assumption that says so; (None, None) when the designation
+    gives no pitch. Keyed by the designation alone, so the look-up hashes one string."""
     pitch = (parse_designation(thread) or (0.0, None))[1]
-    if pitch is None:
-        return None
-    value = pitches * pitch
-    return value, f"{name} not given: {value:g} mm used, {source}"
+
+    def default(name: str, pitches: Default) -> tuple[float | None, str | None]:
+        if pitch is None:
+            return None, None
+        value = pitches.value * pitch
+        return value, f"{name} not given: {value:g} mm used, {pitches.source}"
+
+    return default("max_protrusion", MAX_PROTRUSION_PITCHES), default("max_recess", MAX_RECESS_PITCHES)
 
 
 # Which entry of a `Bounds` a verdict reads, per stack option (see `FitContext.low`).
@@ -181,16 +185,13 @@ class FitContext:
     def max_protrusion(self) -> tuple[float | None, str | None]:
         """REACH_LONG's fail level, and the note when it is the default (one pitch);
         (None, None) when the port's thread gives no pitch: then it only warns."""
-        return self._pitch_limit(self.options.max_protrusion, "max_protrusion", MAX_PROTRUSION_PITCHES)
+        given = self.options.max_protrusion
+        return (given, None) if given is not None else _default_reach_limits(self.port.thread)[0]
 
     def max_recess(self) -> tuple[float | None, str | None]:
         """REACH_SHORT's fail level, and the note when it is the default (two pitches)."""
-        return self._pitch_limit(self.options.max_recess, "max_recess", MAX_RECESS_PITCHES)
-
-    def _pitch_limit(self, given: float | None, name: str, pitches: Default) -> tuple[float | None, str | None]:
-        if given is not None:
-            return given, None
-        return _pitch_default(name, self.port.thread, pitches.value, pitches.source) or (None, None)
+        given = self.options.max_recess
+        return (given, None) if given is not None else _default_reach_limits(self.port.thread)[1]
 
     def dynamic_allowance(self) -> float:
         given = self.options.dynamic_allowance
