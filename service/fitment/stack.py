@@ -51,17 +51,17 @@ class Stack(NamedTuple):
         return _new(Stack, (value, 0.0, 0.0, 0.0, 0.0))
 
     def __add__(self, other: Stack | float) -> Stack:  # type: ignore[override]
-        if isinstance(other, (float, int)):  # an exact length moves the nominal only
-            return _new(Stack, (self[0] + other, self[1], self[2], self[3], self[4]))
-        return _new(Stack, (self[0] + other[0], self[1] + other[1], self[2] + other[2],
-                            self[3] + other[3], self[4] + other[4]))
+        if isinstance(other, tuple):  # another stack (a Dim is one)
+            return _new(Stack, (self[0] + other[0], self[1] + other[1], self[2] + other[2],
+                                self[3] + other[3], self[4] + other[4]))
+        return _new(Stack, (self[0] + other, self[1], self[2], self[3], self[4]))  # exact: the nominal moves
 
     def __sub__(self, other: Stack | float) -> Stack:
-        if isinstance(other, (float, int)):
-            return _new(Stack, (self[0] - other, self[1], self[2], self[3], self[4]))
-        # Subtracting a length turns its plus tolerance into a downward excursion.
-        return _new(Stack, (self[0] - other[0], self[1] + other[2], self[2] + other[1],
-                            self[3] + other[4], self[4] + other[3]))
+        if isinstance(other, tuple):
+            # Subtracting a length turns its plus tolerance into a downward excursion.
+            return _new(Stack, (self[0] - other[0], self[1] + other[2], self[2] + other[1],
+                                self[3] + other[4], self[4] + other[3]))
+        return _new(Stack, (self[0] - other, self[1], self[2], self[3], self[4]))
 
     def bounds(self) -> Bounds:
         """Worst case: every tolerance at its limit, summed linearly (arithmetic stack).
