@@ -7,9 +7,11 @@ from them. Loading yields dicts of canonical values (lengths as `Dim` in mm);
 """
 from __future__ import annotations
 
-from typing import Any
+from collections.abc import Callable, Sequence
+from typing import Any, ClassVar
 
 from marshmallow import RAISE, Schema, ValidationError, fields, validate, validates_schema
+from marshmallow.error_store import merge_errors
 
 from service.fitment.catalog import MATERIALS, SEATS
 from service.fitment.checks import CHECK_NAMES
@@ -91,6 +93,38 @@ def _check_thread_is_standard(data: dict, errors: dict) -> None:
         f"{thread} is not a standard spark-plug thread{hint}; set nonstandard_thread to true to use it anyway")
 
 
+Rule = Callable[[dict], None]
+
+
+def apply_rules(rules: Sequence[Rule], data: dict) -> None:
+    """Run each rule across fields on a loaded dict; their messages, merged, as one
+    ValidationError (as marshmallow merges those of several schema validators)."""
+    errors: dict[str, Any] = {}
+    for rule in rules:
+        try:
+            rule(data)
+        except ValidationError as exc:
+            errors = merge_errors(errors, exc.normalized_messages())
+    if errors:
+        raise ValidationError(errors)
+
+
+class RuledSchema(Schema):
+    """A schema whose checks across fields are plain functions listed in `rules` (each
+    takes the loaded dict and raises ValidationError), with no other hooks.
+
+    marshmallow runs the rules after the fields load, as one schema validator; a
+    loader that deserializes the fields itself (`schemas.field_loader`) runs the same
+    list, so the rules are written once.
+    """
+
+    rules: ClassVar[tuple[Rule, ...]] = ()
+
+    @validates_schema
+    def _apply_rules(self, data: dict, **kwargs: Any) -> None:
+        apply_rules(self.rules, data)
+
+
 class HeatRangeSchema(Schema):
     scale = fields.String(required=True, validate=validate.Length(1, 40),
                           metadata={"description": "name of the heat-range scale the value is on", "example": "shop-scale"})
@@ -118,8 +152,20 @@ class BootRangeSchema(Schema):
             raise ValidationError("min must not exceed max", "min")
 
 
-class PlugDimensionsSchema(Schema):
+def plug_can_exist(data: dict) -> None:
+    """A plug of a standard thread (unless declared otherwise); a gasket on a flat seat only."""
+    errors: dict[str, list[str]] = {}
+    _check_thread_is_standard(data, errors)
+    if data.get("seat") == "conical" and data.get("gasket_thickness") is not None:
+        errors.setdefault("gasket_thickness", []).append("a conical-seat plug has no gasket")
+    if errors:
+        raise ValidationError(errors)
+
+
+class PlugDimensionsSchema(RuledSchema):
     """The dimensions of a plug design."""
+
+    rules = (plug_can_exist,)
 
     class Meta:
         unknown = RAISE
@@ -140,15 +186,6 @@ class PlugDimensionsSchema(Schema):
     heat_range = fields.Nested(HeatRangeSchema, allow_none=True)
     gap = Quantity("length", minimum=0.0, maximum=5.0, bare_unit="mm", metadata={"example": 0.8})
 
-    @validates_schema
-    def _plug_can_exist(self, data: dict, **kwargs: Any) -> None:
-        errors: dict[str, list[str]] = {}
-        _check_thread_is_standard(data, errors)
-        if data.get("seat") == "conical" and data.get("gasket_thickness") is not None:
-            errors.setdefault("gasket_thickness", []).append("a conical-seat plug has no gasket")
-        if errors:
-            raise ValidationError(errors)
-
 
 class StoredPlugSchema(PlugDimensionsSchema):
     """An inventory line: a plug design with the shop's own identifier and stock."""
@@ -161,20 +198,20 @@ class StoredPlugSchema(PlugDimensionsSchema):
     seat = Choice(SEATS, SEAT_ALIASES, required=True)
 
 
-class PlugInputSchema(PlugDimensionsSchema):
-    """A plug in a check: `{"sku": ...}` for an inventory line, or the dimensions inline."""
+def plug_reference_or_inline(data: dict) -> None:
+    """An inventory plug by its sku alone, or a plug's thread and seat inline."""
+    _reference_or_inline(data, "sku", ("thread", "seat"))
 
-    sku = fields.String(validate=IDENTIFIER, metadata={"description": "an inventory plug; give it alone"})
 
-    @validates_schema
-    def _reference_or_inline(self, data: dict, **kwargs: Any) -> None:
-        _reference_or_inline(data, "sku", ("thread", "seat"))
+def head_reference_or_inline(data: dict) -> None:
+    """A stored head by its head_id alone, or a port's thread and seat inline."""
+    _reference_or_inline(data, "head_id", ("thread", "seat"))
 
 
 def _reference_or_inline(data: dict, key: str, required: tuple[str, ...]) -> None:
-    given = {name for name, value in data.items() if value is not None and name != "nonstandard_thread"}
     if key in data:
-        extra = sorted(given - {key})
+        extra = sorted(name for name, value in data.items()
+                       if value is not None and name not in (key, "nonstandard_thread"))
         if extra:
             raise ValidationError({name: [f"give {key} alone or the dimensions inline, not both"] for name in extra})
         return
@@ -183,8 +220,40 @@ def _reference_or_inline(data: dict, key: str, required: tuple[str, ...]) -> Non
         raise ValidationError({name: [f"required (or give {key})"] for name in missing})
 
 
-class PortDimensionsSchema(Schema):
+class PlugInputSchema(PlugDimensionsSchema):
+    """A plug in a check: `{"sku": ...}` for an inventory line, or the dimensions inline."""
+
+    rules = (*PlugDimensionsSchema.rules, plug_reference_or_inline)
+
+    sku = fields.String(validate=IDENTIFIER, metadata={"description": "an inventory plug; give it alone"})
+
+
+def port_can_exist(data: dict) -> None:
+    """A port of a standard thread (unless declared otherwise), each dimension given one
+    way, pressures that agree with each other, a long side no shorter than the short one."""
+    errors: dict[str, list[str]] = {}
+    _check_thread_is_standard(data, errors)
+    for first, second in (("port_depth", "design_reach"), ("piston_clearance", "seat_to_piston"),
+                          ("valve_clearance", "seat_to_valve")):
+        if data.get(first) is not None and data.get(second) is not None:
+            errors.setdefault(second, []).append(f"give {first} or {second}, not both")
+    if data.get("intake_pressure") is not None and data.get("boost_pressure") is not None:
+        errors.setdefault("boost_pressure", []).append(
+            "give intake_pressure (absolute) or boost_pressure (gauge), not both")
+    if data.get("forced_induction") is False and (data.get("boost_pressure") or 0.0) > 0.0:
+        errors.setdefault("boost_pressure", []).append(
+            "a head with forced_induction false has no boost (gauge pressure above the atmosphere)")
+    depth, long_side = data.get("port_depth"), data.get("port_depth_long_side")
+    if depth is not None and long_side is not None and long_side.nominal < depth.nominal:
+        errors.setdefault("port_depth_long_side", []).append("the long side cannot be shorter than port_depth")
+    if errors:
+        raise ValidationError(errors)
+
+
+class PortDimensionsSchema(RuledSchema):
     """A cylinder-head plug port and, optionally, the engine conditions at the plug."""
+
+    rules = (port_can_exist,)
 
     class Meta:
         unknown = RAISE
@@ -239,26 +308,6 @@ class PortDimensionsSchema(Schema):
     rod_length = Quantity("length", minimum=10.0, maximum=5000.0, bare_unit="mm", allow_none=True)
     spark_advance = Quantity("angle", minimum=-20.0, maximum=90.0, bare_unit="degrees before TDC", allow_none=True)
 
-    @validates_schema
-    def _port_can_exist(self, data: dict, **kwargs: Any) -> None:
-        errors: dict[str, list[str]] = {}
-        _check_thread_is_standard(data, errors)
-        for first, second in (("port_depth", "design_reach"), ("piston_clearance", "seat_to_piston"),
-                              ("valve_clearance", "seat_to_valve")):
-            if data.get(first) is not None and data.get(second) is not None:
-                errors.setdefault(second, []).append(f"give {first} or {second}, not both")
-        if data.get("intake_pressure") is not None and data.get("boost_pressure") is not None:
-            errors.setdefault("boost_pressure", []).append(
-                "give intake_pressure (absolute) or boost_pressure (gauge), not both")
-        if data.get("forced_induction") is False and (data.get("boost_pressure") or 0.0) > 0.0:
-            errors.setdefault("boost_pressure", []).append(
-                "a head with forced_induction false has no boost (gauge pressure above the atmosphere)")
-        depth, long_side = data.get("port_depth"), data.get("port_depth_long_side")
-        if depth is not None and long_side is not None and long_side.nominal < depth.nominal:
-            errors.setdefault("port_depth_long_side", []).append("the long side cannot be shorter than port_depth")
-        if errors:
-            raise ValidationError(errors)
-
 
 class StoredHeadSchema(PortDimensionsSchema):
     head_id = fields.String(required=True, validate=IDENTIFIER, metadata={"example": "DEMO-H-VAN-I4"})
@@ -270,14 +319,12 @@ class StoredHeadSchema(PortDimensionsSchema):
 class HeadInputSchema(PortDimensionsSchema):
     """A head in a check: `{"head_id": ...}` for a stored head, or the port inline."""
 
+    rules = (*PortDimensionsSchema.rules, head_reference_or_inline)
+
     head_id = fields.String(validate=IDENTIFIER, metadata={"description": "a stored head; give it alone"})
 
-    @validates_schema
-    def _reference_or_inline(self, data: dict, **kwargs: Any) -> None:
-        _reference_or_inline(data, "head_id", ("thread", "seat"))
 
-
-class OptionsSchema(Schema):
+class OptionsSchema(RuledSchema):
     """Check options; each default is listed in docs/engineering.md and, when applied, in the
     result's assumptions."""
 

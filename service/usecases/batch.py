@@ -35,6 +35,7 @@ from typing import Any
 
 from marshmallow import Schema, ValidationError, missing
 
+from schemas import field_loader
 from schemas.batch import BatchItemSchema
 from service.fitment import verdict_of
 from service.fitment.catalog import Catalog
@@ -200,7 +201,7 @@ class ItemLoader:
             self._by_identity[(name, id(document))] = (document, hit)
             return hit
         try:
-            hit = (self._schema_of(name, document).load(document), None)
+            hit = (field_loader.load(self._schema_of(name, document), document), None)
         except ValidationError as exc:
             hit = (None, exc.messages)
         except RecursionError:
