@@ -196,17 +196,19 @@ def test_interchanges_are_ranked_by_closeness_with_differences_in_mm(counter_sto
 
 
 def test_interchanges_give_the_heat_range_step_on_the_same_scale_and_rank_by_it(client, auth):
-    """Invented scale names; heat ranges 5 (original), 6, 9 on one scale and 5 on another."""
-    lines = [plug("H-ORIGINAL", 19.0, 3.0, heat_range={"scale": "shop", "value": 5}),
-             plug("H-FOUR-AWAY", 19.0, 3.0, heat_range={"scale": "shop", "value": 9}),
-             plug("H-ONE-AWAY", 19.0, 3.0, heat_range={"scale": "Shop ", "value": 6}),
-             plug("H-OTHER-SCALE", 19.0, 3.0, heat_range={"scale": "other", "value": 5})]
+    """Invented scale names and values (a shop's own index from 0 to 1): 0.5 (original),
+    0.625 and 1.0 on one scale, 0.5 on another. The steps are exact in binary, so the
+    differences are exactly 0.125 and 0.5."""
+    lines = [plug("H-ORIGINAL", 19.0, 3.0, heat_range={"scale": "shop", "value": 0.5}),
+             plug("H-FAR", 19.0, 3.0, heat_range={"scale": "shop", "value": 1.0}),
+             plug("H-NEAR", 19.0, 3.0, heat_range={"scale": "Shop ", "value": 0.625}),
+             plug("H-OTHER-SCALE", 19.0, 3.0, heat_range={"scale": "other", "value": 0.5})]
     answer = client.post("/v1/imports/plugs", data="\n".join(json.dumps(p) for p in lines) + "\n",
                          headers={**auth, "Content-Type": "application/x-ndjson"})
     assert answer.status_code == 200, answer.get_json()
     _response, body = listing(client, "/v1/plugs/H-ORIGINAL/interchanges")
     assert [(entry["sku"], entry["differences"]["heat_range"]) for entry in body] == [
-        ("H-ONE-AWAY", {"value": 1.0, "unit": ""}), ("H-FOUR-AWAY", {"value": 4.0, "unit": ""}),
+        ("H-NEAR", {"value": 0.125, "unit": ""}), ("H-FAR", {"value": 0.5, "unit": ""}),
         ("H-OTHER-SCALE", None)]
 
 

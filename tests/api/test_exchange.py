@@ -93,10 +93,10 @@ def test_heads_import_and_export_with_engine_conditions(client, auth):
     text = ("head_id,thread,seat,design_reach_mm,design_reach_plus_mm,design_reach_minus_mm,intake_pressure_bar,"
             "intake_temperature_k,heat_range_band_scale,heat_range_band_min,heat_range_band_max,"
             "boot_range_min_mm,boot_range_max_mm\n"
-            "H-1,M14x1.25,flat,19,0.15,0.15,2.2,318.15,shop,5,7,52,58\n")
+            "H-1,M14x1.25,flat,19,0.15,0.15,2.2,318.15,shop,0.4,0.6,52,58\n")
     assert post(client, auth, "heads", text).status_code == 200
     head = client.get("/v1/heads/H-1").get_json()
-    assert head["heat_range_band"] == {"scale": "shop", "min": 5.0, "max": 7.0}
+    assert head["heat_range_band"] == {"scale": "shop", "min": 0.4, "max": 0.6}
     exported = client.get("/v1/exports/heads").data.decode()
     assert exported.splitlines()[1].split(",")[exported.splitlines()[0].split(",").index("intake_temperature_k")] \
         == "318.15"

@@ -18,7 +18,7 @@ HEAD = {
     "hex": 16.0,
     "resistor_required": True,
     "material": "aluminium",
-    "heat_range_band": {"scale": "shop", "min": 5, "max": 7},
+    "heat_range_band": {"scale": "shop", "min": 0.4, "max": 0.6},
     "boot_range": {"min": 55.0, "max": {"value": 70.0, "plus": 1.0, "minus": 2.0}},
     "compression_ratio": 10.5,
     "intake_pressure": 1.0,
@@ -47,7 +47,7 @@ def test_a_created_head_keeps_every_value_and_tolerance(client, auth):
     assert body["port_depth"] == {"value": 17.5, "unit": "mm", "plus": 0.1, "minus": 0.1}
     assert body["boot_range"] == {"min": {"value": 55.0, "unit": "mm", "plus": 0.0, "minus": 0.0},
                                   "max": {"value": 70.0, "unit": "mm", "plus": 1.0, "minus": 2.0}}
-    assert body["heat_range_band"] == {"scale": "shop", "min": 5.0, "max": 7.0}
+    assert body["heat_range_band"] == {"scale": "shop", "min": 0.4, "max": 0.6}
     assert body["intake_temperature"] == {"value": 320.0, "unit": "K"}  # with its unit: a bare number means degC
     assert body["peak_pressure"] == {"value": 60.0, "unit": "bar"}
     assert body["material"] == "aluminium"

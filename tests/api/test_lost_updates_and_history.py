@@ -12,7 +12,7 @@ from service.web import create_app
 from service.web.auth import create_key
 from tests.api.problems import problem
 
-PLUG = {"sku": "LU-14F-19", "thread": "M14x1.25", "seat": "flat", "reach": 19.0, "gasket_thickness": 1.5,
+PLUG = {"sku": "LOST-UPDATE-PLUG", "thread": "M14x1.25", "seat": "flat", "reach": 19.0, "gasket_thickness": 1.5,
         "firing_end": 4.0, "quantity_on_hand": 10, "location": "A1"}
 HEAD = {"head_id": "LU-HEAD-1", "thread": "M14x1.25", "seat": "flat", "port_depth": 17.5,
         "piston_clearance": 8.0, "description": "lost-update test head"}

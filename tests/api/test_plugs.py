@@ -8,7 +8,7 @@ import pytest
 from tests.api.problems import problem
 
 PLUG = {
-    "sku": "T-14F-19",
+    "sku": "TEST-M14-FLAT",
     "description": "test line, M14 flat",
     "thread": "M14x1.25",
     "seat": "flat",
@@ -18,7 +18,7 @@ PLUG = {
     "terminal_height": 60.0,
     "hex": 16.0,
     "resistor": True,
-    "heat_range": {"scale": "shop", "value": 6},
+    "heat_range": {"scale": "shop", "value": 0.6},
     "gap": 0.8,
     "quantity_on_hand": 7,
     "location": "B3",
@@ -35,10 +35,10 @@ def create(client, auth, **changes):
 
 def test_creating_a_plug_answers_201_with_its_location_and_etag(client, auth):
     response = create(client, auth)
-    assert response.headers["Location"] == "/v1/plugs/T-14F-19"
+    assert response.headers["Location"] == "/v1/plugs/TEST-M14-FLAT"
     assert response.headers["ETag"]
     body = response.get_json()
-    assert body["sku"] == "T-14F-19"
+    assert body["sku"] == "TEST-M14-FLAT"
     # Tolerances are kept as sent (plus 0.1, minus 0.3 mm), not rounded into a nominal.
     assert body["reach"] == {"value": 19.0, "unit": "mm", "plus": 0.1, "minus": 0.3}
 
@@ -50,14 +50,14 @@ def length(value, plus=0.0, minus=0.0):
 
 def test_a_created_plug_reads_back_as_sent_and_can_be_sent_back_unchanged(client, auth):
     create(client, auth)
-    got = client.get("/v1/plugs/T-14F-19")
+    got = client.get("/v1/plugs/TEST-M14-FLAT")
     assert got.status_code == 200
     body = got.get_json()
     # One shape for every length, exact or not.
-    assert body == {**PLUG, "nonstandard_thread": False, "heat_range": {"scale": "shop", "value": 6.0},
+    assert body == {**PLUG, "nonstandard_thread": False, "heat_range": {"scale": "shop", "value": 0.6},
                     "reach": length(19.0, 0.1, 0.3), "gasket_thickness": length(1.5), "firing_end": length(4.0),
                     "terminal_height": length(60.0), "hex": length(16.0), "gap": length(0.8)}
-    put = client.put("/v1/plugs/T-14F-19", json=body, headers=auth)
+    put = client.put("/v1/plugs/TEST-M14-FLAT", json=body, headers=auth)
     assert put.status_code == 200
     assert put.get_json() == body
 
@@ -75,13 +75,13 @@ def test_inputs_in_other_units_and_aliases_are_stored_canonically(client, auth):
 def test_creating_a_sku_that_exists_is_a_409_problem(client, auth):
     create(client, auth)
     body = problem(client.post("/v1/plugs", json=PLUG, headers=auth), 409)
-    assert body["errors"] == {"sku": ["'T-14F-19' exists"]}
+    assert body["errors"] == {"sku": ["'TEST-M14-FLAT' exists"]}
 
 
 def test_skus_are_case_sensitive(client, auth):
     create(client, auth)
     create(client, auth, sku="t-14f-19")
-    assert client.get("/v1/plugs?page_size=10").get_json()[0]["sku"] == "T-14F-19"
+    assert client.get("/v1/plugs?page_size=10").get_json()[0]["sku"] == "TEST-M14-FLAT"
 
 
 @pytest.mark.parametrize("sku", ["", "-starts-with-dash", "has space", "slash/inside", "x" * 65, "ümlaut"])
@@ -127,9 +127,9 @@ def test_writes_without_a_valid_key_are_401_problems(client, auth):
     problem(client.post("/v1/plugs", json=PLUG, headers={"Authorization": "Bearer pfk_wrong"}), 401)
     problem(client.post("/v1/plugs", json=PLUG, headers={"Authorization": "Basic dXNlcjpwYXNz"}), 401)
     create(client, auth)
-    problem(client.put("/v1/plugs/T-14F-19", json=PLUG), 401)
-    problem(client.delete("/v1/plugs/T-14F-19"), 401)
-    assert client.get("/v1/plugs/T-14F-19").status_code == 200
+    problem(client.put("/v1/plugs/TEST-M14-FLAT", json=PLUG), 401)
+    problem(client.delete("/v1/plugs/TEST-M14-FLAT"), 401)
+    assert client.get("/v1/plugs/TEST-M14-FLAT").status_code == 200
 
 
 def test_getting_an_unknown_sku_is_a_404_problem_naming_it(client):
@@ -140,9 +140,9 @@ def test_getting_an_unknown_sku_is_a_404_problem_naming_it(client):
 def test_replacing_clears_what_the_new_body_leaves_out(client, auth):
     create(client, auth)
     replacement = {"thread": "M14x1.25", "seat": "flat", "reach": 19.0}
-    response = client.put("/v1/plugs/T-14F-19", json=replacement, headers=auth)
+    response = client.put("/v1/plugs/TEST-M14-FLAT", json=replacement, headers=auth)
     assert response.status_code == 200
-    assert response.get_json() == {"sku": "T-14F-19", "thread": "M14x1.25", "nonstandard_thread": False,
+    assert response.get_json() == {"sku": "TEST-M14-FLAT", "thread": "M14x1.25", "nonstandard_thread": False,
                                    "seat": "flat", "reach": length(19.0), "description": "", "quantity_on_hand": 0}
 
 
@@ -152,50 +152,50 @@ def test_replacing_an_unknown_sku_is_a_404_problem(client, auth):
 
 def test_a_put_body_naming_another_sku_is_a_422_and_renames_nothing(client, auth):
     create(client, auth)
-    body = problem(client.put("/v1/plugs/T-14F-19", json={**PLUG, "sku": "OTHER"}, headers=auth), 422)
+    body = problem(client.put("/v1/plugs/TEST-M14-FLAT", json={**PLUG, "sku": "OTHER"}, headers=auth), 422)
     assert list(body["errors"]) == ["sku"]
     assert client.get("/v1/plugs/OTHER").status_code == 404
 
 
 def test_a_put_with_an_invalid_body_is_a_422_and_changes_nothing(client, auth):
     create(client, auth)
-    problem(client.put("/v1/plugs/T-14F-19", json={**PLUG, "reach": "3 kg"}, headers=auth), 422)
-    assert client.get("/v1/plugs/T-14F-19").get_json()["quantity_on_hand"] == 7
+    problem(client.put("/v1/plugs/TEST-M14-FLAT", json={**PLUG, "reach": "3 kg"}, headers=auth), 422)
+    assert client.get("/v1/plugs/TEST-M14-FLAT").get_json()["quantity_on_hand"] == 7
 
 
 def test_the_etag_changes_with_each_write_and_guards_replacement(client, auth):
     first = create(client, auth).headers["ETag"]
-    assert client.get("/v1/plugs/T-14F-19").headers["ETag"] == first
-    assert client.get("/v1/plugs/T-14F-19", headers={"If-None-Match": first}).status_code == 304
-    changed = client.put("/v1/plugs/T-14F-19", json={**PLUG, "quantity_on_hand": 6},
+    assert client.get("/v1/plugs/TEST-M14-FLAT").headers["ETag"] == first
+    assert client.get("/v1/plugs/TEST-M14-FLAT", headers={"If-None-Match": first}).status_code == 304
+    changed = client.put("/v1/plugs/TEST-M14-FLAT", json={**PLUG, "quantity_on_hand": 6},
                          headers={**auth, "If-Match": first})
     assert changed.status_code == 200
     second = changed.headers["ETag"]
     assert second != first
     # A client holding the old tag is refused, and nothing is overwritten.
-    stale = client.put("/v1/plugs/T-14F-19", json={**PLUG, "quantity_on_hand": 1}, headers={**auth, "If-Match": first})
+    stale = client.put("/v1/plugs/TEST-M14-FLAT", json={**PLUG, "quantity_on_hand": 1}, headers={**auth, "If-Match": first})
     problem(stale, 412)
-    problem(client.delete("/v1/plugs/T-14F-19", headers={**auth, "If-Match": first}), 412)
-    assert client.get("/v1/plugs/T-14F-19").get_json()["quantity_on_hand"] == 6
+    problem(client.delete("/v1/plugs/TEST-M14-FLAT", headers={**auth, "If-Match": first}), 412)
+    assert client.get("/v1/plugs/TEST-M14-FLAT").get_json()["quantity_on_hand"] == 6
 
 
 def test_deleting_answers_204_then_the_plug_is_gone(client, auth):
     create(client, auth)
-    response = client.delete("/v1/plugs/T-14F-19", headers=auth)
+    response = client.delete("/v1/plugs/TEST-M14-FLAT", headers=auth)
     assert response.status_code == 204
     assert response.get_data() == b""
-    problem(client.get("/v1/plugs/T-14F-19"), 404)
-    problem(client.delete("/v1/plugs/T-14F-19", headers=auth), 404)
+    problem(client.get("/v1/plugs/TEST-M14-FLAT"), 404)
+    problem(client.delete("/v1/plugs/TEST-M14-FLAT", headers=auth), 404)
 
 
 @pytest.fixture
 def shelf(client, auth):
     """Five plugs that differ in one filtered property each."""
-    create(client, auth, sku="A-14F-19")
-    create(client, auth, sku="B-14F-127", reach=12.7)
-    create(client, auth, sku="C-14F-19-NR", resistor=False)
-    create(client, auth, sku="D-14F-19-HEX208", hex=20.8)
-    create(client, auth, sku="E-18C-12", thread="M18x1.5", seat="conical", reach=11.2, gasket_thickness=None,
+    create(client, auth, sku="TEST-1-M14-FLAT-19")
+    create(client, auth, sku="TEST-2-M14-FLAT-12.7", reach=12.7)
+    create(client, auth, sku="TEST-3-M14-FLAT-19-NO-RESISTOR", resistor=False)
+    create(client, auth, sku="TEST-4-M14-FLAT-19-HEX-20.8", hex=20.8)
+    create(client, auth, sku="TEST-5-M18-CONICAL-12", thread="M18x1.5", seat="conical", reach=11.2, gasket_thickness=None,
            hex=20.8)
 
 
@@ -205,14 +205,14 @@ def skus(response):
 
 
 def test_the_list_filters_by_thread_seat_reach_hex_and_resistor(client, shelf):
-    assert skus(client.get("/v1/plugs")) == ["A-14F-19", "B-14F-127", "C-14F-19-NR", "D-14F-19-HEX208", "E-18C-12"]
-    assert skus(client.get("/v1/plugs?thread=M18")) == ["E-18C-12"]
-    assert skus(client.get("/v1/plugs?seat=taper")) == ["E-18C-12"]
-    assert skus(client.get("/v1/plugs?reach=0.5%20in")) == ["B-14F-127"]  # 12.7 mm = 1/2 in (NIST SP 811)
-    assert skus(client.get("/v1/plugs?reach=19&resistor=false")) == ["C-14F-19-NR"]
+    assert skus(client.get("/v1/plugs")) == ["TEST-1-M14-FLAT-19", "TEST-2-M14-FLAT-12.7", "TEST-3-M14-FLAT-19-NO-RESISTOR", "TEST-4-M14-FLAT-19-HEX-20.8", "TEST-5-M18-CONICAL-12"]
+    assert skus(client.get("/v1/plugs?thread=M18")) == ["TEST-5-M18-CONICAL-12"]
+    assert skus(client.get("/v1/plugs?seat=taper")) == ["TEST-5-M18-CONICAL-12"]
+    assert skus(client.get("/v1/plugs?reach=0.5%20in")) == ["TEST-2-M14-FLAT-12.7"]  # 12.7 mm = 1/2 in (NIST SP 811)
+    assert skus(client.get("/v1/plugs?reach=19&resistor=false")) == ["TEST-3-M14-FLAT-19-NO-RESISTOR"]
     # 13/16 in = 20.6375 mm: the same hex family as 20.8 mm (contract, HEX_DIFFERS).
-    assert skus(client.get("/v1/plugs?hex=13/16%20in")) == ["D-14F-19-HEX208", "E-18C-12"]
-    assert skus(client.get("/v1/plugs?thread=M14&seat=flat&reach=19&hex=16&resistor=true")) == ["A-14F-19"]
+    assert skus(client.get("/v1/plugs?hex=13/16%20in")) == ["TEST-4-M14-FLAT-19-HEX-20.8", "TEST-5-M18-CONICAL-12"]
+    assert skus(client.get("/v1/plugs?thread=M14&seat=flat&reach=19&hex=16&resistor=true")) == ["TEST-1-M14-FLAT-19"]
 
 
 def test_a_bad_filter_is_a_422_naming_it(client):
@@ -223,7 +223,7 @@ def test_a_bad_filter_is_a_422_naming_it(client):
 
 def test_the_list_pages_with_page_and_page_size(client, shelf):
     response = client.get("/v1/plugs?page=2&page_size=2")
-    assert skus(response) == ["C-14F-19-NR", "D-14F-19-HEX208"]
+    assert skus(response) == ["TEST-3-M14-FLAT-19-NO-RESISTOR", "TEST-4-M14-FLAT-19-HEX-20.8"]
     assert json.loads(response.headers["X-Pagination"]) == {
         "total": 5, "total_pages": 3, "first_page": 1, "last_page": 3, "page": 2,
         "previous_page": 1, "next_page": 3}
@@ -253,7 +253,7 @@ def test_a_misspelt_query_parameter_is_a_422_naming_it(client, shelf):
     assert body["errors"] == {"thred": ["unknown query parameter; did you mean thread?"]}
     assert "thread" in body["detail"]
     # Also where an operation takes no query parameters at all.
-    assert list(problem(client.get("/v1/plugs/A-14F-19?units=imperial"), 422)["errors"]) == ["units"]
+    assert list(problem(client.get("/v1/plugs/TEST-1-M14-FLAT-19?units=imperial"), 422)["errors"]) == ["units"]
 
 
 def test_a_page_size_over_1000_is_a_422(client):

@@ -103,7 +103,7 @@ def test_every_plug_field_survives_a_trip_through_the_database(app):
         "sku": "RT-1", "description": "round trip", "thread": "M12x1.25", "seat": "flat",
         "reach": {"value": 19, "plus": 0.05, "minus": 0.15}, "gasket_thickness": {"value": 1.2, "tol": 0.1},
         "firing_end": -0.5, "terminal_height": 55.0, "hex": 14.0, "resistor": False,
-        "heat_range": {"scale": "s", "value": 7}, "gap": 0.7, "quantity_on_hand": 3, "location": "A1"})
+        "heat_range": {"scale": "s", "value": 0.7}, "gap": 0.7, "quantity_on_hand": 3, "location": "A1"})
     with db.unit_of_work(app) as session:
         repository.plugs(session).add(document)
         session.commit()
@@ -118,7 +118,7 @@ def test_every_head_field_survives_a_trip_through_the_database(app):
         "design_reach": {"value": 12.7, "tol": 0.1}, "port_depth_long_side": 13.0,
         "seat_to_piston": 22.0, "seat_to_valve": {"value": 25.0, "plus": 0.2, "minus": 0.4},
         "well_bore": 20.0, "hex": 16.0, "resistor_required": False, "material": "cast iron",
-        "heat_range_band": {"scale": "s", "min": 4, "max": 6},
+        "heat_range_band": {"scale": "s", "min": 0.4, "max": 0.6},
         "boot_range": {"min": {"value": 40, "tol": 1}, "max": 45},
         "compression_ratio": 9.5, "intake_pressure": "14.7 psi", "intake_temperature": "300 K",
         "peak_pressure": 55, "ignition_voltage": 25, "bore": 70, "stroke": 60, "rod_length": 110,

@@ -68,8 +68,8 @@ def test_a_cell_with_a_unit_under_a_header_with_a_unit_makes_only_that_line_inva
 def test_nested_members_and_options_have_their_own_columns():
     data = only("plug_thread,plug_seat,plug_heat_range_scale,plug_heat_range_value,head_thread,head_seat,"
                 "head_boot_range_min_mm,head_boot_range_max_mm,require,stack\n"
-                "M14,flat,shop-scale,6,M14,flat,60,70,\"piston, valve\",rss\n")
-    assert data["plug"]["heat_range"] == {"scale": "shop-scale", "value": "6"}
+                "M14,flat,shop-scale,0.6,M14,flat,60,70,\"piston, valve\",rss\n")
+    assert data["plug"]["heat_range"] == {"scale": "shop-scale", "value": "0.6"}
     assert data["head"]["boot_range"] == {"min": 60.0, "max": 70.0}
     assert data["options"] == {"require": ["piston", "valve"], "stack": "rss"}
 

@@ -277,14 +277,14 @@ def test_no_request_the_schemas_accept_makes_the_depth_checks_or_the_drawing_fai
         check, catalog, reach, gasket, depth, firing, gap, ratio, intake, temperature, peak, volts, torque,
         advance, stroke, rod, terminal, seat, lubrication):
     plug = {"thread": "M14x1.25", "seat": seat, "reach": reach, "firing_end": firing, "gap": gap,
-            "terminal_height": terminal, "heat_range": {"scale": "s", "value": 5}}
+            "terminal_height": terminal, "heat_range": {"scale": "s", "value": 0.5}}
     if seat == "flat":
         plug["gasket_thickness"] = gasket
     head = {"thread": "M14x1.25", "seat": seat, "port_depth": depth, "piston_clearance": 5.0, "material": "cast_iron",
             "compression_ratio": ratio, "intake_pressure": f"{intake} bar", "intake_temperature": f"{temperature} K",
             "peak_pressure": peak, "ignition_voltage": volts, "spark_advance": advance, "stroke": stroke,
             "rod_length": rod, "boot_range": {"min": 40, "max": 60},
-            "heat_range_band": {"scale": "s", "min": 4, "max": 6}}
+            "heat_range_band": {"scale": "s", "min": 0.4, "max": 0.6}}
     result = check(plug, head, {"torque": torque, "lubrication": lubrication})
     document = result_document(result, "imperial")
     json.dumps(document, allow_nan=False)  # every number finite

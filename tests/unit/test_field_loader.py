@@ -38,8 +38,8 @@ VALUES: tuple[Any, ...] = (
     "DEMO-P-0001", "DEMO-H-VAN-I4", "bad id!", ["reach"], ["reach", "piston"], ["nothing"],
     {"value": 19, "unit": "mm"}, {"value": 19, "unit": "mm", "tol": 0.2}, {"value": "0.75", "unit": "in"},
     {"value": 19, "plus": 0.1, "minus": 0.2}, {"value": 19, "unit": 5}, {"unit": "mm"},
-    {"scale": "shop-scale", "value": 5}, {"scale": "shop-scale", "min": 3, "max": 6},
-    {"scale": "shop-scale", "min": 6, "max": 3}, {"min": 20, "max": 40}, {"nested": {"deep": 1}},
+    {"scale": "shop-scale", "value": 0.5}, {"scale": "shop-scale", "min": 0.3, "max": 0.6},
+    {"scale": "shop-scale", "min": 0.6, "max": 0.3}, {"min": 20, "max": 40}, {"nested": {"deep": 1}},
 )
 
 
