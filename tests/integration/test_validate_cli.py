@@ -345,6 +345,19 @@ def test_a_short_or_repetitive_list_is_checked_in_this_process_whatever_jobs_say
     assert json.loads(result.output)["summary"]["total"] == lines.count("\n")
 
 
+def _slow_part(raw_items):
+    """A part of the pool that takes at least 0.3 s: far longer than the command takes to
+    react to Ctrl-C, however busy the machine, so the count of parts that ran is not a
+    race between the pool and the test."""
+    import time
+
+    from service.cli import validate
+
+    time.sleep(0.3)
+    assert validate._worker is not None
+    return validate._worker.check(raw_items)
+
+
 def test_ctrl_c_during_a_shared_out_run_drops_the_parts_not_started(tmp_path, monkeypatch):
     from concurrent.futures import ProcessPoolExecutor
 
@@ -356,6 +369,7 @@ def test_ctrl_c_during_a_shared_out_run_drops_the_parts_not_started(tmp_path, mo
     monkeypatch.setattr(ProcessPoolExecutor, "submit",
                         lambda pool, *args: futures.append(submit(pool, *args)) or futures[-1])
     monkeypatch.setattr(validate, "MAX_PART_LINES", 100)  # 2,400 lines: 24 parts
+    monkeypatch.setattr(validate, "_check_in_worker", _slow_part)
 
     def interrupted(lines: int) -> None:  # Ctrl-C as the first part comes back
         raise KeyboardInterrupt
