@@ -156,7 +156,7 @@ class Pressure(Quantity):
 
 
 CANONICAL_UNITS = {"length": "mm", "torque": "N*m", "pressure": "bar", "temperature": "K",
-              "voltage": "kV", "angle": "deg"}
+              "voltage": "kV", "angle": "deg", "speed": "rpm", "mass": "g", "area": "mm**2"}
 
 
 class Length(Quantity):
@@ -282,7 +282,8 @@ class WholeNumber(fields.Integer):
 # 0.001 mm (the engine and the database keep full precision); any other quantity is
 # {"value", "unit"} in its canonical unit. Both can be sent back as input.
 
-ANSWER_DIGITS = {"length": 3, "torque": 3, "pressure": 5, "temperature": 3, "voltage": 3, "angle": 3}
+ANSWER_DIGITS = {"length": 3, "torque": 3, "pressure": 5, "temperature": 3, "voltage": 3, "angle": 3,
+                 "speed": 3, "mass": 3, "area": 3}
 
 
 def rounded(value: float, digits: int) -> float:

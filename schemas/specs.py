@@ -18,6 +18,7 @@ from service.fitment.checks import CHECK_NAMES
 from service.fitment.defaults import GASKET_CONDITIONS, LUBRICATIONS, STACKS
 from service.fitment.designation import format_designation, parse_designation
 from service.fitment.model import HeatRange, HeatRangeBand, Options, PlugSpec, PortSpec, Span
+from service.fitment.running import ROD_MATERIALS
 
 from .fields import SEAT_ALIASES, Choice, Length, Pressure, Quantity, WholeNumber
 
@@ -36,6 +37,8 @@ HEX_RANGE_MM = (8.0, 40.0)
 # A plug leaning further than this from the cylinder axis is a side plug, whose piston
 # clearance needs another model than a flat crown square to the cylinder axis.
 MAX_INCLINATION_DEG = 75.0
+# Above any piston engine a plug fits; past it a speed is a typo (rpm written for something else).
+MAX_RPM = 25_000.0
 
 
 def _catalog():
@@ -307,6 +310,19 @@ class PortDimensionsSchema(RuledSchema):
     stroke = Quantity("length", minimum=5.0, maximum=2000.0, bare_unit="mm", allow_none=True)
     rod_length = Quantity("length", minimum=10.0, maximum=5000.0, bare_unit="mm", allow_none=True)
     spark_advance = Quantity("angle", minimum=-20.0, maximum=90.0, bare_unit="degrees before TDC", allow_none=True)
+    max_rpm = Quantity("speed", minimum=500.0, maximum=MAX_RPM, bare_unit="rpm", allow_none=True, metadata={
+        "description": "the engine's highest speed, revolutions per minute (Hz is not read). With stroke and "
+                       "rod_length (and rod_material, reciprocating_mass, rod_section_area) the piston's extra "
+                       "travel towards the head at speed is estimated and taken from the piston margin, unless "
+                       "the dynamic_allowance option is given", "example": 7000})
+    rod_material = Choice(ROD_MATERIALS, {"aluminum": "aluminium"}, allow_none=True,
+                          metadata={"description": "the connecting rod's material, for its stiffness (Young's "
+                                                   "modulus); default aluminium, the most compliant"})
+    reciprocating_mass = Quantity("mass", minimum=1.0, maximum=100_000.0, bare_unit="g", allow_none=True, metadata={
+        "description": "mass moving with the piston: piston, rings, pin, clips and about a third of the rod "
+                       "(its small end), one cylinder", "example": 520})
+    rod_section_area = Quantity("area", minimum=5.0, maximum=50_000.0, bare_unit="mm**2", allow_none=True, metadata={
+        "description": "the connecting rod's smallest cross-section (its beam), for its stretch", "example": 150})
 
 
 class StoredHeadSchema(PortDimensionsSchema):
@@ -347,8 +363,10 @@ class OptionsSchema(RuledSchema):
     indexing_washer = Quantity("length", minimum=0.0, maximum=MAX_GASKET_MM, bare_unit="mm", metadata={
         "description": "thickness of an indexing washer under a flat-seat plug's gasket: added to the stack (the "
                        "plug sits that much further out) and noted for its longer heat path"})
-    dynamic_allowance = Quantity("length", minimum=0.0, maximum=10.0, bare_unit="mm",
-                                 metadata={"description": "default 0 mm"})
+    dynamic_allowance = Quantity("length", minimum=0.0, maximum=10.0, bare_unit="mm", metadata={
+        "description": "taken from the piston and valve margins: how much nearer they come at speed. Default: for "
+                       "the piston, the running allowance estimated from the head's max_rpm and rod when it gives "
+                       "them; otherwise 0 mm. Given, it wins over the estimate"})
     stack = Choice(STACKS, {"worst-case": "worst_case", "worstcase": "worst_case"})
     torque = Quantity("torque", minimum=0.0, maximum=500.0, bare_unit="N*m",
                       metadata={"description": "planned installation torque"})
@@ -372,12 +390,13 @@ class FitCheckRequestSchema(Schema):
 _PLUG_FIELDS = ("reach", "gasket_thickness", "firing_end", "hex", "resistor", "terminal_height", "gap")
 _PORT_FIELDS = ("port_depth", "design_reach", "port_depth_long_side", "piston_clearance", "seat_to_piston",
                 "valve_clearance", "seat_to_valve", "well_bore", "hex", "resistor_required", "material",
-                "compression_ratio", "forced_induction")
+                "compression_ratio", "forced_induction", "max_rpm", "rod_material")
 _PORT_RENAMED = (("intake_pressure", "intake_pressure_bar"), ("boost_pressure", "boost_pressure_bar"),
                  ("intake_temperature", "intake_temperature_k"),
                  ("peak_pressure", "peak_pressure_bar"), ("ignition_voltage", "ignition_voltage_kv"),
                  ("bore", "bore_mm"), ("stroke", "stroke_mm"), ("rod_length", "rod_length_mm"),
-                 ("spark_advance", "spark_advance_deg"), ("plug_inclination", "plug_inclination_deg"))
+                 ("spark_advance", "spark_advance_deg"), ("plug_inclination", "plug_inclination_deg"),
+                 ("reciprocating_mass", "reciprocating_mass_g"), ("rod_section_area", "rod_section_area_mm2"))
 
 
 def plug_spec(data: dict) -> PlugSpec:

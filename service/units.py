@@ -55,14 +55,22 @@ PRESSURE = Kind("pressure", "bar", "bar", "[mass] / [length] / [time] ** 2", "1.
 TEMPERATURE = Kind("temperature", "K", "degC", "[temperature]", "45, '45 degC', '113 degF' or '320 K'")
 VOLTAGE = Kind("voltage", "kV", "kV", "[length] ** 2 * [mass] / [current] / [time] ** 3", "30, '30 kV' or '30000 V'")
 ANGLE = Kind("angle", "deg", "deg", "", "15 or '15 deg'")
-KINDS = {k.name: k for k in (LENGTH, TORQUE, PRESSURE, TEMPERATURE, VOLTAGE, ANGLE)}
+# An engine's speed: revolutions per minute only. pint counts a revolution as 2π radians,
+# so it would read "150 Hz" (150 revolutions a second to most people) as 150 rad/s, 1,432
+# rpm: a speed six times too low, and a rod stretch forty times too small. Any other
+# unit is refused (`_SPEED_UNITS`).
+SPEED = Kind("speed", "rpm", "rpm", "1 / [time]", "7000, '7000 rpm' or '7000 r/min'")
+MASS = Kind("mass", "g", "g", "[mass]", "450, '450 g', '0.45 kg' or '1 lb'")
+AREA = Kind("area", "mm**2", "mm**2", "[length] ** 2", "150, '150 mm**2', '1.5 cm**2' or '0.25 in**2'")
+KINDS = {k.name: k for k in (LENGTH, TORQUE, PRESSURE, TEMPERATURE, VOLTAGE, ANGLE, SPEED, MASS, AREA)}
 
 # Output units per unit system; ASCII and pint-parsable, as the contract asks.
+# Masses stay in grams in both: pistons and rods are weighed in grams in every shop.
 OUTPUT_UNITS = {
     "metric": {"length": "mm", "torque": "N*m", "pressure": "bar", "voltage": "kV",
-               "force": "N", "stress": "MPa", "area": "mm**2", "temperature": "K"},
+               "force": "N", "stress": "MPa", "area": "mm**2", "temperature": "K", "speed": "rpm", "mass": "g"},
     "imperial": {"length": "in", "torque": "lbf*ft", "pressure": "psi", "voltage": "kV",
-                 "force": "lbf", "stress": "psi", "area": "in**2", "temperature": "K"},
+                 "force": "lbf", "stress": "psi", "area": "in**2", "temperature": "K", "speed": "rpm", "mass": "g"},
 }
 
 # The trade writes torque as ft-lb, lb-ft, ft·lbf, in-lb, lbs.ft …; pint would read
@@ -84,6 +92,12 @@ _GENERAL_SPELLINGS = [
     (re.compile(r"(?<=\d)\s*\"$"), " in"),
     (re.compile(r"\bdeg\s*C\b"), "degC"),
 ]
+# How the trade writes revolutions per minute; each is read as pint's `rpm`.
+_SPEED_SPELLINGS = [
+    (re.compile(r"\b(?:r|rev|revs|revolutions?)\s*/\s*min(?:ute)?\b", re.IGNORECASE), "rpm"),
+    (re.compile(r"\b(?:rpm|RPM|Rpm)\b"), "rpm"),
+]
+_SPEED_UNITS = frozenset({"rpm"})
 
 
 # A pressure string may say which zero it counts from: "15 psig", "2.5 bara", "1.5 bar gauge",
@@ -144,6 +158,9 @@ def _normalise(text: str, kind: Kind) -> str:
     if kind is TORQUE:
         for pattern, repl in _TORQUE_SPELLINGS:
             out = pattern.sub(repl, out)
+    elif kind is SPEED:
+        for pattern, repl in _SPEED_SPELLINGS:
+            out = pattern.sub(repl, out)
     return out
 
 
@@ -172,7 +189,7 @@ def parse_quantity(text: str, kind_name: str) -> float:
     """
     kind = KINDS[kind_name]
     if len(text) > MAX_QUANTITY_TEXT:
-        raise UnitError(f"a {kind.name} written as text may be at most {MAX_QUANTITY_TEXT} characters "
+        raise UnitError(f"{_a(kind.name)} written as text may be at most {MAX_QUANTITY_TEXT} characters "
                         f"long; write a number or a number and a unit, such as {kind.examples}")
     try:  # a plain number (most cells of a long list): the spellings below cannot apply
         number = float(text)
@@ -200,7 +217,7 @@ def parse_quantity(text: str, kind_name: str) -> float:
     except Exception as exc:  # pint raises many types for unknown names, 1/0, offset units
         raise _unreadable(text, kind) from exc
     if not isinstance(quantity, reg.Quantity):
-        raise UnitError(f"{text!r} has no unit; give a number or a {kind.name} with units")
+        raise UnitError(f"{text!r} has no unit; give a number or {_a(kind.name)} with units")
     magnitude = quantity.magnitude
     if isinstance(magnitude, complex) or not isinstance(magnitude, (int, float)):
         raise _unreadable(text, kind)
@@ -209,12 +226,17 @@ def parse_quantity(text: str, kind_name: str) -> float:
     if kind is ANGLE and quantity.dimensionless:
         return check_finite(quantity.to("deg").magnitude, kind.name)
     if quantity.dimensionality != reg.get_dimensionality(kind.dimensionality):
-        raise UnitError(f"{text!r} is not a {kind.name} (expected units like {kind.bare})")
+        raise UnitError(f"{text!r} is not {_a(kind.name)} (expected units like {kind.bare})")
     return check_finite(quantity.to(kind.canonical).magnitude, kind.name)  # 1e308 in is past 1e308 mm
 
 
+def _a(noun: str) -> str:
+    """The noun with its indefinite article: "a length", "an area"."""
+    return f"{'an' if noun[0] in 'aeiou' else 'a'} {noun}"
+
+
 def _unreadable(text: str, kind: Kind) -> UnitError:
-    return UnitError(f"cannot read {text!r} as a {kind.name}; write a number or a number and a unit, "
+    return UnitError(f"cannot read {text!r} as {_a(kind.name)}; write a number or a number and a unit, "
                      f"such as {kind.examples}")
 
 
@@ -228,6 +250,9 @@ def _expression(normalised: str, text: str, kind: Kind) -> str:
         raise _unreadable(text, kind)
     if not match["unit"] and "/" in normalised:
         raise UnitError(f"{text!r} is a fraction without a unit; write the unit, such as '3/4 in'")
+    if kind is SPEED and match["unit"] not in _SPEED_UNITS:
+        raise UnitError(f"{text!r}: give an engine speed in revolutions per minute, such as {kind.examples} "
+                        "(Hz and rad/s are not read: pint counts a revolution as 2π radians)")
     if match["whole"] is None:
         return normalised
     numerator = int(match["whole"]) * int(match["denominator"]) + int(match["numerator"])
@@ -270,4 +295,4 @@ def from_canonical(value: float, kind: str, system: str) -> float:
 
 
 _CANONICAL_OUT = {"length": "mm", "torque": "N*m", "pressure": "bar", "voltage": "kV",
-                  "force": "N", "stress": "MPa", "area": "mm**2", "temperature": "K"}
+                  "force": "N", "stress": "MPa", "area": "mm**2", "temperature": "K", "speed": "rpm", "mass": "g"}

@@ -16,10 +16,11 @@ from functools import lru_cache
 from typing import NamedTuple
 
 from .context import FitContext, Skip, skip_reason
-from .defaults import CAUTIONS_WITH_ANTI_SEIZE
+from .defaults import ANTI_SEIZE_CAUTION
 from .designation import parse_designation
 from .geometry import SHELL_EDGE, TIP
 from .model import SourcedValue, Value, least_sure
+from .running import ROD_STRETCH, RULE_OF_THUMB
 from .spark import (
     STANDARD_INTAKE_PRESSURE_BAR,
     STANDARD_INTAKE_TEMPERATURE_K,
@@ -285,12 +286,26 @@ def _clearance_check(ctx: FitContext, obstacle: _Obstacle, from_seat: object, fr
                                 "min_clearance": (minimum, LENGTH), "shortfall": (minimum - worst, LENGTH)}
     if feature == SHELL_EDGE:
         values["inclination"] = (ctx.port.plug_inclination_deg or 0.0, "angle")
+    running = ctx.piston_allowance_values if obstacle is _PISTON else None
+    if running is not None and running["dynamic_allowance_method"] in _ESTIMATED:
+        # The margin is the running one: say so, with the allowance and the speed.
+        allowance, speed = running["dynamic_allowance"], running["max_rpm"]
+        assert not isinstance(allowance, str) and not isinstance(speed, str)
+        values["dynamic_allowance"], values["max_rpm"] = (allowance[0], LENGTH), (speed[0], "speed")
+        template += _RUNNING_MARGIN
     ctx.add(obstacle.code, obstacle.check, "fail", template, **values)
 
 
+_ESTIMATED = frozenset({ROD_STRETCH, RULE_OF_THUMB})
+_RUNNING_MARGIN = (" The margin counts the piston's estimated running allowance of {dynamic_allowance} at "
+                   "{max_rpm} (analysis.piston)." + GUIDANCE)
+
+
 def check_piston(ctx: FitContext) -> None:
-    """The piston margin is the smaller of the electrode tip's and the shell edge's; the
-    analysis names the feature that governs and gives both."""
+    """The piston margin is the smaller of the electrode tip's and the shell edge's, both
+    less the piston's allowance (`FitContext.piston_allowance`: the dynamic_allowance option,
+    else the running allowance from the head's max_rpm); the analysis names the feature
+    that governs, gives both, and says how the allowance was found."""
     port = ctx.port
     feature = TIP
     if ctx.tip_margin is not None and ctx.shell_edge_margin is not None:
@@ -303,7 +318,8 @@ def check_piston(ctx: FitContext) -> None:
         ctx.analysis["piston"] = {"governing_feature": feature, "tip_margin": (tip, LENGTH),
                                   "shell_edge_margin": (edge, LENGTH),
                                   "shell_edge_offset": (ctx.shell_edge_offset, LENGTH),
-                                  "plug_inclination": (port.plug_inclination_deg or 0.0, "angle")}
+                                  "plug_inclination": (port.plug_inclination_deg or 0.0, "angle"),
+                                  **(ctx.piston_allowance_values or {})}
     _clearance_check(ctx, _PISTON, port.seat_to_piston, port.piston_clearance, feature)
 
 
@@ -397,7 +413,7 @@ def check_torque(ctx: FitContext) -> None:
         lubrication = "dry"
         ctx.assume(_DRY_THREADS_ASSUMED)
     elif lubrication == "anti_seize":
-        ctx.cautions = CAUTIONS_WITH_ANTI_SEIZE
+        ctx.cautions = (*ctx.cautions, ANTI_SEIZE_CAUTION)
     limits = torque_limits(guide)[lubrication]
     guide = ctx.torque = limits.guide
     planned = ctx.options.torque

@@ -22,8 +22,9 @@ MIN_CLEARANCE_MM = Default(1.5, "common practice (about 0.060 in), from memory")
 # thread crest stands in the chamber or lies exposed (common practice).
 FLUSH_TOLERANCE_MM = Default(0.5, "common practice (less than one thread pitch)")
 
-# Extra closing of the piston towards the head at speed (rod stretch, bearing
-# clearance). Zero unless the builder gives one: it depends on the engine.
+# Extra closing of the piston (and valves) towards the plug at speed (rod stretch, bearing
+# clearance, valve float). Zero unless the builder gives one or, for the piston, the head
+# gives its max_rpm, when running.py estimates it: it depends on the engine.
 DYNAMIC_ALLOWANCE_MM = Default(0.0, "none unless given; it is engine-specific")
 
 # How far the thread end may stand into the chamber (long side) before REACH_LONG fails,
@@ -61,3 +62,9 @@ ANTI_SEIZE_CAUTION = (
     "thread from seizing, and anti-seize raises the preload reached at a given torque. If it "
     "is used, tighten to the lowered range given here, never to the dry figure.")
 CAUTIONS_WITH_ANTI_SEIZE = (*CAUTIONS, ANTI_SEIZE_CAUTION)
+# Added whenever a running allowance is estimated from the head's max_rpm (running.py).
+RUNNING_CAUTION = (
+    "The running allowance (the piston's extra travel towards the head at speed) is an estimate from a simple "
+    "model: rod stretch under the inertia load plus bearing clearances, or a rule of thumb. It leaves out the "
+    "rod's thermal growth, the crank's bending and the piston's rocking. The engine and rod makers' clearance "
+    "figures come first; measure the engine before running a clearance this close.")

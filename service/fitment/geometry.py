@@ -9,11 +9,12 @@ towards the chamber), built as tolerance stacks before any check runs.
     protrusion_long_side  = e - D_long          REACH_LONG reads its high bound
     t      = e + firing_end                     tip position
     O      = D + piston_clearance, or seat_to_piston (valve likewise)
-    tip margin        = O - t - a               a: dynamic allowance
+    tip margin        = O - t - a               a: the piston's allowance: dynamic_allowance, else the
+                                                running allowance from the head's max_rpm (running.py)
     shell-edge margin = O - e - r·tan θ - a     r: half the thread's major diameter,
                                                 θ: the plug's inclination to the cylinder axis
     piston_margin     = the smaller of the two, bound by bound
-    valve_margin      = O_valve - t - a         (the tip only)
+    valve_margin      = O_valve - t - a_valve   (the tip only; a_valve: dynamic_allowance alone)
 
 Each line below is one of these formulas, written with the stack operators
 (`stack.Stack`), so the code reads as the contract does.
@@ -58,16 +59,17 @@ def derive(ctx: FitContext) -> None:
     geometry["tip_position"] = t.bounds()
     if not (port.seat_to_piston or port.piston_clearance or port.seat_to_valve or port.valve_clearance):
         return  # many heads give neither obstacle
-    a = ctx.dynamic_allowance()
     O_piston = obstacle_distance(ctx, port.seat_to_piston, port.piston_clearance)
     if O_piston is not None:
+        a = ctx.piston_allowance()
         r_tan_theta = ctx.shell_edge_offset = shell_edge_offset(plug, port)
         tip_margin = ctx.tip_margin = (O_piston - t - a).bounds()
         edge_margin = ctx.shell_edge_margin = (O_piston - e - r_tan_theta - a).bounds()
         geometry["piston_margin"] = lower_of(tip_margin, edge_margin)
     O_valve = obstacle_distance(ctx, port.seat_to_valve, port.valve_clearance)
     if O_valve is not None:
-        geometry["valve_margin"] = (O_valve - t - a).bounds()
+        a_valve = ctx.valve_allowance()
+        geometry["valve_margin"] = (O_valve - t - a_valve).bounds()
 
 
 _NOT_INSTALLABLE_NOTE = ("the plug's thread or seat does not match the port's, so it cannot be installed there: "

@@ -114,6 +114,13 @@ class PortSpec:
     stroke_mm: float | None = None
     rod_length_mm: float | None = None
     spark_advance_deg: float | None = None
+    # The running clearance (see `running.py`): the engine's highest speed, the rod's
+    # material (one of running.ROD_MATERIALS), the reciprocating mass and the rod's
+    # smallest section.
+    max_rpm: float | None = None
+    rod_material: str | None = None
+    reciprocating_mass_g: float | None = None
+    rod_section_area_mm2: float | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -135,7 +142,8 @@ class Options:
 
 
 # A finding value: (number, quantity kind). Kinds: length, torque, pressure, voltage,
-# force, stress, ratio, angle, temperature, count. The serialiser turns them into units.
+# force, stress, ratio, angle, temperature, count, speed (rpm), mass (g), area (mm²).
+# The serialiser turns them into units.
 Value = tuple[float, str]
 # An analysis value that says how sure it is: (number, kind, grade, source), the grade
 # one of GRADES (as in the shared reference values) and the source a sentence.

@@ -33,7 +33,7 @@ _DIGITS = {"mm": 3, "in": 5}
 _MESSAGE_FORMAT = {"mm": "{:.2f} mm", "in": "{:.3f} in", "N*m": "{:.1f} N*m", "lbf*ft": "{:.1f} lbf*ft",
                    "kV": "{:.1f} kV", "bar": "{:.2f} bar", "psi": "{:.1f} psi", "N": "{:.0f} N",
                    "lbf": "{:.0f} lbf", "MPa": "{:.0f} MPa", "mm**2": "{:.1f} mm**2", "in**2": "{:.4f} in**2",
-                   "K": "{:.0f} K", "deg": "{:.1f} deg", "": "{:.2f}"}
+                   "K": "{:.0f} K", "deg": "{:.1f} deg", "rpm": "{:.0f} rpm", "g": "{:.0f} g", "": "{:.2f}"}
 # Steps numbers are rounded to where a person reads them (messages, the text report), per
 # output unit: torque wrenches in lbf·ft are read to half a unit, lengths in inches to a
 # thousandth. The JSON values keep their full digits.

@@ -14,7 +14,8 @@ repeated here). The rules, in one place:
   may also hold a string with units (`0.75 in`);
 - a scalar quantity is one column named with its unit: `hex_mm`, `gap_mm`,
   `intake_pressure_bar` (absolute), `boost_pressure_bar` (gauge), `intake_temperature_k`,
-  `ignition_voltage_kv`, `spark_advance_deg`. Temperatures are in kelvin so a value round-trips exactly (a
+  `ignition_voltage_kv`, `spark_advance_deg`, `max_rpm` (a name that ends in its unit keeps it once),
+  `reciprocating_mass_g`, `rod_section_area_mm2`. Temperatures are in kelvin so a value round-trips exactly (a
   °C column would add and subtract 273.15 on every trip);
 - a nested object is one column per member: `heat_range_scale`, `heat_range_value`,
   `boot_range_min_mm`, ...;
@@ -58,7 +59,7 @@ MAX_LISTED_ERRORS = 1000
 
 # Column-name suffix for each quantity kind's canonical unit (see service.units.KINDS).
 _UNIT_SUFFIX = {"length": "mm", "pressure": "bar", "temperature": "k", "voltage": "kv", "angle": "deg",
-                "torque": "nm"}
+                "torque": "nm", "speed": "rpm", "mass": "g", "area": "mm2"}
 
 VALUE, PLUS, MINUS, SCALAR = "value", "plus", "minus", "scalar"
 ROW_ERRORS = "_row"
@@ -124,7 +125,9 @@ def _field_columns(name: str, schema_field: fields.Field, prefix: str = "", fiel
     if isinstance(schema_field, Quantity):
         kind = KINDS[schema_field.kind]
         unit = None if kind.bare == kind.canonical else kind.canonical
-        return [Column(f"{stem}_{_UNIT_SUFFIX[kind.name]}", owner, member, SCALAR, "quantity", unit)]
+        suffix = f"_{_UNIT_SUFFIX[kind.name]}"
+        name = stem if stem.endswith(suffix) else stem + suffix  # max_rpm, not max_rpm_rpm
+        return [Column(name, owner, member, SCALAR, "quantity", unit)]
     if isinstance(schema_field, fields.Nested):
         nested = schema_field.schema
         columns: list[Column] = []

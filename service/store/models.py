@@ -154,6 +154,12 @@ class Head(Timestamped, Base):
     stroke_mm: Mapped[float | None] = _length()
     rod_length_mm: Mapped[float | None] = _length()
     spark_advance_deg: Mapped[float | None] = mapped_column(Float)
+    # The running clearance (migration 0007): highest speed, rod material, reciprocating
+    # mass (g, one cylinder) and the rod's smallest section (mm²).
+    max_rpm: Mapped[float | None] = mapped_column(Float)
+    rod_material: Mapped[str | None] = mapped_column(String(16))
+    reciprocating_mass_g: Mapped[float | None] = mapped_column(Float)
+    rod_section_area_mm2: Mapped[float | None] = mapped_column(Float)
     version: Mapped[int] = mapped_column(Integer, nullable=False, default=1, server_default="1")
 
     __mapper_args__: ClassVar[dict[str, Any]] = {"version_id_col": version}

@@ -146,7 +146,8 @@ HEADS: RecordMapping[Head] = RecordMapping(
              ("intake_temperature", "intake_temperature_k"), ("peak_pressure", "peak_pressure_bar"),
              ("ignition_voltage", "ignition_voltage_kv"), ("bore", "bore_mm"), ("stroke", "stroke_mm"),
              ("rod_length", "rod_length_mm"), ("spark_advance", "spark_advance_deg"),
-             ("plug_inclination", "plug_inclination_deg")),
+             ("plug_inclination", "plug_inclination_deg"), ("max_rpm", "max_rpm"), ("rod_material", "rod_material"),
+             ("reciprocating_mass", "reciprocating_mass_g"), ("rod_section_area", "rod_section_area_mm2")),
     nested=(
         Nested("heat_range_band", (("scale", "heat_range_band_scale", False), ("min", "heat_range_band_min", False),
                                    ("max", "heat_range_band_max", False)), required=("scale", "min", "max")),

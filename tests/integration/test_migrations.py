@@ -87,6 +87,41 @@ def test_a_head_written_at_head_revision_still_raises_the_heads_generation(datab
     assert after > before
 
 
+def test_a_heads_running_data_changed_at_head_revision_raises_the_heads_generation(database_url):
+    """Migration 0007 adds the running-clearance columns with plain ALTER TABLE: an UPDATE
+    of one of them still reaches 0004's triggers."""
+    engine = db.make_engine(database_url)
+    try:
+        with engine.begin() as connection:
+            connection.execute(text("INSERT INTO heads (head_id, thread, nonstandard_thread, seat, version, "
+                                    "created_at, updated_at) VALUES ('T-RPM', 'M14x1.25', false, 'flat', 1, "
+                                    "CURRENT_TIMESTAMP, CURRENT_TIMESTAMP)"))
+            before = connection.execute(GENERATION).scalar() or 0
+            connection.execute(text("UPDATE heads SET max_rpm = 7000, rod_material = 'steel', "
+                                    "reciprocating_mass_g = 600, rod_section_area_mm2 = 150 WHERE head_id = 'T-RPM'"))
+            after = connection.execute(GENERATION).scalar() or 0
+    finally:
+        engine.dispose()
+    assert after > before
+
+
+def test_the_heads_generation_triggers_survive_a_downgrade_below_the_running_columns(empty_database_url):
+    """Dropping 0007's columns must not rebuild the table (and so drop 0004's triggers)."""
+    db.upgrade(empty_database_url)
+    db.downgrade(empty_database_url, "0006")
+    engine = db.make_engine(empty_database_url)
+    try:
+        with engine.begin() as connection:
+            before = connection.execute(GENERATION).scalar() or 0
+            connection.execute(text("INSERT INTO heads (head_id, thread, nonstandard_thread, seat, version, "
+                                    "created_at, updated_at) VALUES ('T-DOWN', 'M14x1.25', false, 'flat', 1, "
+                                    "CURRENT_TIMESTAMP, CURRENT_TIMESTAMP)"))
+            after = connection.execute(GENERATION).scalar() or 0
+    finally:
+        engine.dispose()
+    assert after > before
+
+
 def test_plugs_are_indexed_on_thread_and_seat_for_the_fitting_search(database_url):
     engine = db.make_engine(database_url)
     try:

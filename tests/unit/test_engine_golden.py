@@ -67,6 +67,12 @@ RICH_PORTS = [
     # An inclined roof and an inclined plug: the shell edge and the reach between break-outs.
     PortSpec("M14x1.25", "flat", port_depth=Dim(17.5, 0.1, 0.1), port_depth_long_side=Dim(19.5, 0.1, 0.1),
              piston_clearance=Dim(5.5, 0.2, 0.2), plug_inclination_deg=28.0, material="aluminium"),
+    # The running clearance: a steel rod's stretch at speed (engine 2.1.0) ...
+    PortSpec("M14x1.25", "flat", port_depth=Dim(17.5, 0.1, 0.1), piston_clearance=Dim(4.5, 0.2, 0.2),
+             valve_clearance=Dim(6.0), stroke_mm=86.0, rod_length_mm=145.0, max_rpm=7000.0, rod_material="steel",
+             reciprocating_mass_g=600.0, rod_section_area_mm2=150.0),
+    # ... and the rule of thumb for a rod of no stated material above the last speed band.
+    PortSpec("M14x1.25", "flat", port_depth=Dim(17.5), piston_clearance=Dim(5.0), max_rpm=12_000.0),
 ]
 OPTION_SETS = {
     "torque_27": Options(torque=27.0),
