@@ -317,7 +317,7 @@ class PortDimensionsSchema(RuledSchema):
                        "the dynamic_allowance option is given", "example": 7000})
     rod_material = Choice(ROD_MATERIALS, {"aluminum": "aluminium"}, allow_none=True,
                           metadata={"description": "the connecting rod's material, for its stiffness (Young's "
-                                                   "modulus); default aluminium, the most compliant"})
+                                                   "modulus); default aluminium, the most compliant."})
     reciprocating_mass = Quantity("mass", minimum=1.0, maximum=100_000.0, bare_unit="g", allow_none=True, metadata={
         "description": "mass moving with the piston: piston, rings, pin, clips and about a third of the rod "
                        "(its small end), one cylinder", "example": 520})

@@ -22,6 +22,7 @@ from xml.sax.saxutils import escape, quoteattr
 
 from service.fitment.catalog import Catalog
 from service.fitment.context import FitContext
+from service.fitment.defaults import CAUTIONS
 from service.fitment.geometry import SHELL_EDGE, TIP, derive, obstacle_distance
 from service.fitment.model import Finding, FitResult, Options, PlugSpec, PortSpec
 from service.fitment.stack import Bounds, Stack
@@ -192,13 +193,15 @@ def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str
     frame = _frame(plug, port, layout)
     findings = list(result.findings)
     legend_rows = _legend_rows(findings, [f["message"] for f in result_document(result, units)["findings"]])
+    legend_rows += _caution_rows(result)
     height = frame.bottom + 60.0 + sum(20.0 + 13.0 * len(lines) for _, _, _, lines in legend_rows) + 50.0
     standoff = layout.standoff if layout.standoff is not None else 0.0
     hex_half = (plug.hex / 2.0) if plug.hex else frame.radius + 3.0
 
     svg = _Svg()
     _heading(svg, plug, port, result, frame, units, height)
-    _draw_piston(svg, layout, frame)  # first: where a leaning crown runs under the head, the head hides it
+    _draw_piston(svg, layout, frame, _piston_allowance(result))  # first: where a leaning crown runs under the
+    # head, the head hides it
     _draw_head(svg, port, layout, frame)
     _draw_valve(svg, layout, frame)
     _draw_gasket(svg, plug, standoff, frame)
@@ -292,9 +295,18 @@ def _draw_head(svg: _Svg, port: PortSpec, layout: AxialLayout, frame: _Frame) ->
                 data_feature="seat_face", data_axial_mm="0")
 
 
-def _draw_piston(svg: _Svg, layout: AxialLayout, frame: _Frame) -> None:
+def _piston_allowance(result: FitResult) -> float:
+    """The allowance the piston margin took off (`analysis.piston.dynamic_allowance`: the
+    option, or the running allowance estimated from the head's max_rpm), mm; 0 without one."""
+    allowance = (result.analysis.get("piston") or {}).get("dynamic_allowance")
+    return allowance[0] if isinstance(allowance, tuple) else 0.0
+
+
+def _draw_piston(svg: _Svg, layout: AxialLayout, frame: _Frame, allowance: float = 0.0) -> None:
     """The piston crown at top dead centre, square to the cylinder axis: across the plug's
-    frame it leans by the plug's inclination. `data-axial-mm` is where it crosses the axis."""
+    frame it leans by the plug's inclination. `data-axial-mm` is where it crosses the axis.
+    With an allowance (running or given) a dashed line marks the crown at speed, where the
+    piston margin is measured to."""
     piston = layout.piston
     if piston is None:
         return
@@ -307,6 +319,12 @@ def _draw_piston(svg: _Svg, layout: AxialLayout, frame: _Frame) -> None:
     svg.element("line", x1=x(-half_width), y1=y(left), x2=x(half_width), y2=y(right), stroke="#000",
                 stroke_width=2.2, data_feature="piston_crown", data_axial_mm=f"{piston:.6f}")
     _label(svg, "piston crown at TDC", x(-half_width) + 6, max(y(left) + 16, frame.bottom - 8), bold=True)
+    if allowance > 0.0:
+        running = piston - allowance
+        near_left, near_right = frame.crown(-half_width, running), frame.crown(half_width, running)
+        svg.element("line", x1=x(-half_width), y1=y(near_left), x2=x(half_width), y2=y(near_right), stroke="#000",
+                    stroke_width=1.2, stroke_dasharray="6 2 1 2", data_feature="piston_crown_at_speed",
+                    data_axial_mm=f"{running:.6f}")
 
 
 def _draw_valve(svg: _Svg, layout: AxialLayout, frame: _Frame) -> None:
@@ -394,7 +412,7 @@ def _draw_dimensions(svg: _Svg, dims: list[tuple[str, float, float, str]], frame
     x, y = frame.x, frame.y
     column_x = x(frame.half_width) + 28.0
     label_x = column_x + 18.0 * max(1, len(dims)) + 12.0
-    label_ys: list[float] = []
+    label_ys: list[tuple[float, float]] = []  # (baseline, height) of each label placed
     for index, (name, start_mm, end_mm, text) in enumerate(dims):
         dx = column_x + 18.0 * index
         y0, y1 = y(start_mm), y(end_mm)
@@ -410,14 +428,15 @@ def _draw_dimensions(svg: _Svg, dims: list[tuple[str, float, float, str]], frame
             svg.element("line", x1=dx, y1=max(y0, y1) + 12, x2=dx, y2=max(y0, y1), stroke="#111",
                         stroke_width=1.1, marker_end="url(#arrow)")
         wanted = (y0 + y1) / 2.0 + 4.0
-        placed = max([wanted] + [ly + 30.0 for ly in label_ys if ly > wanted - 30.0])
-        label_ys.append(placed)
+        first, *rest = text.split("\n")
+        height = 17.0 + 13.0 * len(rest)  # 30 for the usual two lines
+        placed = max([wanted] + [ly + taken for ly, taken in label_ys if ly > wanted - taken])
+        label_ys.append((placed, height))
         svg.element("line", x1=dx, y1=(y0 + y1) / 2.0, x2=label_x - 4, y2=placed - 4, stroke="#999",
                     stroke_width=0.6)
-        first, _, second = text.partition("\n")
         svg.element("text", first, x=label_x, y=placed, font_size=12, fill="#111", font_weight="bold")
-        if second:
-            svg.element("text", second, x=label_x, y=placed + 13, font_size=10.5, fill="#333")
+        for number, line in enumerate(rest, start=1):
+            svg.element("text", line, x=label_x, y=placed + 13 * number, font_size=10.5, fill="#333")
 
 
 def _draw_markers(svg: _Svg, findings: list[Finding], anchors: dict[str, float], frame: _Frame) -> None:
@@ -616,12 +635,22 @@ def _dimensions(result: FitResult, layout: AxialLayout, frame: _Frame,
     point = _governing_point(result, layout, frame)
     if "piston_margin" in geometry and point is not None and layout.piston is not None:
         _feature, across, along = point
-        dims.append(("piston_margin", along, frame.crown(across, layout.piston),
-                     _bounds_text("piston margin", geometry["piston_margin"], units)))
+        allowance = _piston_allowance(result)
+        label = _bounds_text("piston margin", geometry["piston_margin"], units)
+        if allowance > 0.0:  # measured to the crown at speed
+            label += f"\nto the crown at speed: {_format_length(allowance, units)} allowance off"
+        dims.append(("piston_margin", along, frame.crown(across, layout.piston - allowance), label))
     if "valve_margin" in geometry and layout.tip is not None and layout.valve is not None:
         dims.append(("valve_margin", layout.tip, layout.valve,
                      _bounds_text("valve margin", geometry["valve_margin"], units)))
     return dims
+
+
+def _caution_rows(result: FitResult) -> list[tuple[str, str, str, list[str]]]:
+    """The result's own cautions beyond the general one the drawing ends with (the running
+    allowance's, anti-seize's), as legend rows."""
+    return [("", "", "Caution", textwrap.wrap(text, LEGEND_WRAP_CHARS))
+            for text in result.cautions if text not in CAUTIONS]
 
 
 def _listed(findings: list[Finding]) -> list[Finding]:

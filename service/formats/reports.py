@@ -270,6 +270,24 @@ _GEOMETRY_LABELS = {"protrusion_short_side": "protrusion, short side", "protrusi
                     "tip_position": "tip position", "piston_margin": "piston margin", "valve_margin": "valve margin"}
 
 
+_ALLOWANCE_WORDS = {"rod_stretch": "the running allowance estimated from the rod's stretch and bearing clearances",
+                    "rule_of_thumb": "the running allowance from the rule of thumb for the rod",
+                    "option": "the dynamic_allowance option"}
+
+
+def _piston_allowance_note(document: dict[str, Any]) -> str | None:
+    """What the piston margin took off, when it took anything: the running allowance at the
+    head's max_rpm, or the dynamic_allowance option (`analysis.piston`)."""
+    piston = (document.get("analysis") or {}).get("piston") or {}
+    allowance, method = piston.get("dynamic_allowance"), piston.get("dynamic_allowance_method")
+    if not isinstance(allowance, dict) or not allowance["value"] or method not in _ALLOWANCE_WORDS:
+        return None
+    speed = piston.get("max_rpm")
+    at = f" at {display_value('max_rpm', speed)}" if isinstance(speed, dict) and method != "option" else ""
+    return (f"piston margin: less {display_value('dynamic_allowance', allowance)}{at}, "
+            f"{_ALLOWANCE_WORDS[method]} (see the assumptions and cautions)")
+
+
 def result_text(document: dict[str, Any], style: Style = plain) -> str:
     """One result document, readable: verdict, findings, geometry, torque, assumptions."""
     verdict = document["verdict"]
@@ -290,6 +308,9 @@ def result_text(document: dict[str, Any], style: Style = plain) -> str:
             numbers = "".join(f"{_geometry_number(entry[key], unit):>9}"
                               for key in ("nominal", "min", "max", "rss_min", "rss_max"))
             out.append(f"  {_GEOMETRY_LABELS.get(name, name):<26}{numbers}")
+        allowance = _piston_allowance_note(document)
+        if allowance:
+            out.append(f"  {allowance}")
         out.append("")
     for check, quantities in (document.get("analysis") or {}).items():
         shown = ", ".join(f"{name} {q}" if isinstance(q, str) else f"{name} {display_value(name, q)}"

@@ -30,6 +30,10 @@ HEAD = {
     "rod_length": 150.0,
     "spark_advance": 30,
     "plug_inclination": "0.25 rad",
+    "max_rpm": "7000 r/min",
+    "rod_material": "steel",
+    "reciprocating_mass": "0.6 kg",
+    "rod_section_area": "1.5 cm**2",
 }
 
 
@@ -53,6 +57,23 @@ def test_a_created_head_keeps_every_value_and_tolerance(client, auth):
     assert body["material"] == "aluminium"
     # 0.25 rad = 14.324 deg (1 rad = 180/pi deg, SI Brochure 9th ed., table 4), to 0.001 deg
     assert body["plug_inclination"] == {"value": 14.324, "unit": "deg"}
+    # the running clearance's inputs in their canonical units (1 kg = 1000 g, 1 cm² = 100 mm², exact)
+    assert body["max_rpm"] == {"value": 7000.0, "unit": "rpm"}
+    assert body["rod_material"] == "steel"
+    assert body["reciprocating_mass"] == {"value": 600.0, "unit": "g"}
+    assert body["rod_section_area"] == {"value": 150.0, "unit": "mm**2"}
+
+
+@pytest.mark.parametrize(("field", "value", "says"), [
+    ("max_rpm", "150 Hz", "revolutions per minute"),  # pint would read 150 Hz as 1,432 rpm
+    ("max_rpm", 100_000, "at most 25000 rpm"),
+    ("rod_material", "wood", "must be one of: steel, aluminium, titanium"),
+    ("reciprocating_mass", "600 mm", "is not a mass"),
+    ("rod_section_area", "150 mm", "is not an area"),
+])
+def test_running_inputs_that_cannot_be_read_are_422_problems_naming_the_field(client, auth, field, value, says):
+    body = problem(client.post("/v1/heads", json={**HEAD, field: value}, headers=auth), 422)
+    assert says in " ".join(body["errors"][field])
 
 
 def test_a_head_read_back_can_be_sent_back_unchanged(client, auth):

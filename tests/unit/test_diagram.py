@@ -145,3 +145,25 @@ def test_the_drawing_renders_to_a_png(plug, port):
     png = cairosvg.svg2png(bytestring=render_fit_svg(plug, port, result, catalog=CATALOG).encode())
     assert png[:8] == b"\x89PNG\r\n\x1a\n"
     assert len(png) > 5000
+
+
+def test_a_running_allowance_draws_the_crown_at_speed_and_the_margin_to_it():
+    """Hand-worked: the tip at 19.0 − 1.5 + 3.0 = 20.5 mm, the crown at rest at 17.0 + 8.0 =
+    25.0 mm (port depth plus piston clearance). A steel rod at 7,000 rpm (tests/unit/
+    test_running.py: 0.199 mm) brings the crown to 24.801 mm; the margin drawn is
+    24.801 − 20.5 = 4.301 mm, the engine's nominal piston margin."""
+    port = PortSpec(thread="M14x1.25", seat="flat", port_depth=Dim(17.0), piston_clearance=Dim(8.0),
+                    stroke_mm=86.0, rod_length_mm=145.0, max_rpm=7000.0, rod_material="steel",
+                    reciprocating_mass_g=600.0, rod_section_area_mm2=150.0)
+    result, svg = _render(port=port)
+    root = ET.fromstring(svg.encode())
+    scale = float(root.get("data-px-per-mm"))
+    features = _features(root)
+    assert float(features["piston_crown_at_speed"].get("data-axial-mm")) == pytest.approx(25.0 - 0.199, abs=0.001)
+    dimension = next(e for e in root.iter() if e.get("data-dimension") == "piston_margin")
+    drawn = abs(float(dimension.get("y2")) - float(dimension.get("y1"))) / scale
+    assert drawn == pytest.approx(result.geometry["piston_margin"].nominal, abs=0.01)
+    assert drawn == pytest.approx(4.301, abs=0.01)
+    text = " ".join(element.text or "" for element in root.iter(f"{SVG}text"))
+    assert "to the crown at speed: 0.20 mm allowance off" in text
+    assert "The running allowance" in text and "come first" in text  # the result's own caution, in the legend

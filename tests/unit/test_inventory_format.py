@@ -27,8 +27,25 @@ def test_every_length_gets_a_value_column_and_two_tolerance_columns_beside_it():
 def test_head_columns_name_their_units_so_a_number_is_never_ambiguous():
     header = HEADS.header
     for name in ("intake_pressure_bar", "intake_temperature_k", "peak_pressure_bar", "ignition_voltage_kv",
-                 "spark_advance_deg", "well_bore_mm", "boot_range_min_mm", "heat_range_band_scale"):
+                 "spark_advance_deg", "well_bore_mm", "boot_range_min_mm", "heat_range_band_scale",
+                 "max_rpm", "rod_material", "reciprocating_mass_g", "rod_section_area_mm2"):
         assert name in header
+    assert "max_rpm_rpm" not in header  # a name that ends in its unit keeps it once
+
+
+def test_a_heads_running_data_round_trips_through_the_exchange_file():
+    text = ("head_id,thread,seat,stroke_mm,rod_length_mm,max_rpm,rod_material,reciprocating_mass_g,"
+            "rod_section_area_mm2\n"
+            "H-1,M14x1.25,flat,86,145,7000,steel,600.5,150\n")
+    first = stock_file.validate(stock_file.read_csv(text, HEADS), HEADS, csv_columns=True)
+    assert first.ok, first.errors
+    document = first.documents[0][1]
+    assert (document["max_rpm"], document["rod_material"], document["reciprocating_mass"],
+            document["rod_section_area"]) == (7000.0, "steel", 600.5, 150.0)
+    out = io.StringIO()
+    stock_file.write_csv([document], HEADS, out)
+    again = stock_file.validate(stock_file.read_csv(out.getvalue(), HEADS), HEADS, csv_columns=True)
+    assert [d for _l, d in again.documents] == [document]
 
 
 def test_a_row_loads_through_the_schema_with_its_tolerances_and_stock():

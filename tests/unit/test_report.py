@@ -117,3 +117,27 @@ def test_the_exit_code_from_the_summary_equals_the_one_from_the_results(catalog,
     rows = BUILD_LIST.splitlines(keepends=True)
     answer = run_batch(read_csv(rows[0] + "".join(rows[1 + line] for line in lines)), catalog).as_dict()
     assert summary_exit_code(answer["summary"], fail_on) == exit_code(answer, fail_on)
+
+
+# A head with its speed and rod, as a build list gives it (invented test numbers): the flush
+# plug above with 4.5 mm of piston clearance, a steel rod at 7,000 rpm. Static margin
+# (17.5 + 4.5) − (17.5 + 4) = 0.5 mm; less 0.199 mm at speed (tests/unit/test_running.py).
+RUNNING_LIST = (
+    "ref,plug_thread,plug_seat,plug_reach_mm,plug_gasket_thickness_mm,plug_firing_end_mm,head_thread,head_seat,"
+    "head_port_depth_mm,head_piston_clearance_mm,head_stroke,head_rod_length,head_max_rpm,head_rod_material,"
+    "head_reciprocating_mass,head_rod_section_area\n"
+    "racer,M14,flat,19,1.5,4,M14,flat,17.5,4.5,86,145,7000 rpm,steel,600 g,150\n"
+)
+
+
+def test_the_piston_margin_says_what_running_allowance_it_counts_in_text_and_junit(catalog):
+    answer = run_batch(read_csv(RUNNING_LIST), catalog).as_dict()
+    result = answer["results"][0]
+    assert result["geometry"]["piston_margin"]["nominal"] == pytest.approx(0.5 - 0.199, abs=0.001)
+    text = result_text(result)
+    assert "piston margin: less 0.20 mm at 7000 rpm, the running allowance estimated from the rod's stretch" in text
+    assert "The running allowance (the piston's extra travel towards the head at speed)" in text
+    junit = junit_report(answer, "racer.csv")
+    failure = ET.fromstring(junit).find(".//failure")
+    assert "running allowance of 0.20 mm at 7000 rpm" in failure.get("message")
+    assert "The running allowance" in ET.fromstring(junit).find("./testsuite/system-out").text
