@@ -25,7 +25,8 @@ FLUSH_TOLERANCE_MM = Default(0.5, "common practice (less than one thread pitch)"
 # Extra closing of the piston (and valves) towards the plug at speed (rod stretch, bearing
 # clearance, valve float). Zero unless the builder gives one or, for the piston, the head
 # gives its max_rpm, when running.py estimates it: it depends on the engine.
-DYNAMIC_ALLOWANCE_MM = Default(0.0, "none unless given; it is engine-specific")
+DYNAMIC_ALLOWANCE_MM = Default(0.0, "none unless given or, for the piston, estimated from the head's max_rpm; "
+                                    "it is engine-specific")
 
 # How far the thread end may stand into the chamber (long side) before REACH_LONG fails,
 # and stop short of it (short side) before REACH_SHORT fails, in pitches of the port's

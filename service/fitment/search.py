@@ -9,7 +9,8 @@ database. Only the contract's geometry is used (fit-check contract, "Geometry"):
     e = reach - s                                 thread end
     t = e + firing_end                            tip position
     protrusion_short_side = e - D,  protrusion_long_side = e - D_long
-    piston margin = smaller of  O - t - a  and  O - e - r·tan θ - a;  valve margin = O_v - t - a
+    piston margin = smaller of  O - t - a  and  O - e - r·tan θ - a;  valve margin = O_v - t - a_v
+    (a: the piston's allowance, a running allowance when the head gives max_rpm; a_v: dynamic_allowance)
 
 ## Fitting plugs
 
@@ -127,7 +128,7 @@ def fit_bounds(port: PortSpec, options: Options, catalog: Catalog) -> FitBounds:
     size = catalog.thread(port.thread)
     conical = port.seat == "conical"
     standard = 0.0 if conical else (size.standard_gasket_mm if size is not None else None)
-    allowance, minimum = ctx.dynamic_allowance(), ctx.min_clearance()
+    minimum = ctx.min_clearance()
 
     depth = depth_long = window = fail_outside = safe_within = None
     if ctx.port_depth is not None and ctx.port_depth_long is not None:
@@ -151,6 +152,8 @@ def fit_bounds(port: PortSpec, options: Options, catalog: Catalog) -> FitBounds:
         obstacle = obstacle_distance(ctx, from_seat, from_breakout)
         if obstacle is None:
             continue
+        # The engine's own allowances: the piston's may be a running allowance (max_rpm).
+        allowance = ctx.piston_allowance() if is_piston else ctx.valve_allowance()
         nominal_limit = obstacle.nominal - allowance - minimum
         worst_limit = obstacle.nominal - obstacle.down - allowance - minimum
         tip_fail_above = nominal_limit if tip_fail_above is None else min(tip_fail_above, nominal_limit)

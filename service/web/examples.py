@@ -64,17 +64,21 @@ FIT_RESULT = {
     "analysis": {"piston": {"governing_feature": "tip", "tip_margin": {"value": 4.0, "unit": "mm"},
                             "shell_edge_margin": {"value": 8.0, "unit": "mm"},
                             "shell_edge_offset": {"value": 0.0, "unit": "mm"},
-                            "plug_inclination": {"value": 0.0, "unit": "deg"}},
+                            "plug_inclination": {"value": 0.0, "unit": "deg"},
+                            "dynamic_allowance": {"value": 0.0, "unit": "mm"},
+                            "dynamic_allowance_method": "default"},
                  "thread_strength": {"safety_factor": {"value": 7.3774, "unit": ""}}},
     "torque": {"min": 25.0, "max": 30.0, "unit": "N*m", "lubrication": "dry", "turn_angle_deg": 180.0,
                "turn_angle_note": "after finger-tight, with a new gasket", "reused_gasket_turn_angle_deg": 30.0,
                "source": "torque: common torque guidance (common practice)"},
-    "assumptions": ["min_clearance not given: 1.5 mm used (common practice (about 0.060 in), from memory)",
+    "assumptions": [("dynamic_allowance not given: 0 mm used (none unless given or, for the piston, estimated from the "
+                     "head's max_rpm; it is engine-specific)"),
+                    "min_clearance not given: 1.5 mm used (common practice (about 0.060 in), from memory)",
                     ("piston: plug_inclination not given: 0 deg assumed (plug axis parallel to the cylinder axis), "
                      "so the shell's edge is no nearer the crown than its axis")],
     "cautions": [("Torque, clearance and gap values are guidance: the engine maker's service data, "
                  "local regulations and licensed practice come first.")],
-    "engine_version": "2.0.0",
+    "engine_version": "2.1.0",
     "catalog_version": "fbcb0fa264fd",
 }
 

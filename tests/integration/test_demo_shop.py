@@ -79,6 +79,8 @@ def test_each_showcase_pair_shows_its_codes(demo_shop, pair):
     assert set(pair.shows) <= set(result.codes()), [f.code for f in result.findings]
     if pair.verdict is not None:
         assert result.verdict == pair.verdict, [f.code for f in result.findings]
+    if pair.running is not None:
+        assert result.analysis["piston"]["dynamic_allowance_method"] == pair.running
 
 
 def test_the_showcase_shows_every_registered_finding_code():

@@ -65,7 +65,11 @@ def plug_and_port(draw):
         material=draw(st.sampled_from([None, "aluminium", "cast_iron"])),
         heat_range_band=draw(st.sampled_from([None, HeatRangeBand("shop", 4, 6)])),
         boot_range=draw(st.sampled_from([None, Span(50.0, 60.0)])),
-        compression_ratio=draw(st.sampled_from([None, 10.0])), ignition_voltage_kv=draw(st.sampled_from([None, 30.0])))
+        compression_ratio=draw(st.sampled_from([None, 10.0])), ignition_voltage_kv=draw(st.sampled_from([None, 30.0])),
+        # the running clearance: a rule of thumb, a rod's stretch, or none
+        max_rpm=draw(st.sampled_from([None, 6500.0, 12_000.0])), rod_material=draw(st.sampled_from([None, "steel"])),
+        stroke_mm=86.0, rod_length_mm=145.0, reciprocating_mass_g=draw(st.sampled_from([None, 600.0])),
+        rod_section_area_mm2=150.0)
     if port.port_depth is not None and draw(st.booleans()):
         long_side = Dim(port.port_depth.nominal + draw(lengths(0, 3)), 0.1, 0.1)
         port = PortSpec(**{**{name: getattr(port, name) for name in PortSpec.__slots__},
