@@ -45,8 +45,9 @@ class FittingPlugsQuerySchema(StockFilterSchema):
         "description": "REACH_LONG fails above it; default one pitch of the head's thread"})
     max_recess = Quantity("length", minimum=0.0, maximum=20.0, bare_unit="mm", metadata={
         "description": "REACH_SHORT fails below minus it; default two pitches of the head's thread"})
-    dynamic_allowance = Quantity("length", minimum=0.0, maximum=10.0, bare_unit="mm",
-                                 metadata={"description": "default 0 mm"})
+    dynamic_allowance = Quantity("length", minimum=0.0, maximum=10.0, bare_unit="mm", metadata={
+        "description": "taken from the piston and valve margins; default: for the piston, the running allowance "
+                       "estimated from the head's max_rpm and rod when it gives them, otherwise 0 mm"})
 
 
 class InterchangeQuerySchema(StockFilterSchema):

@@ -263,7 +263,11 @@ _OPTION_WINS_NOTE = ("piston: the dynamic_allowance option is used; the running 
                      "would give is not estimated")
 _NO_SPEED_NOTE = ("piston: the head gives rod data but no max_rpm: no running allowance is estimated (give "
                   "max_rpm to have it estimated)")
+
+
 class _RunningEstimate(NamedTuple):
+    """A running allowance with the assumptions and `analysis.piston` values that say how."""
+
     allowance_mm: float
     notes: tuple[str, ...]
     values: dict[str, Value | SourcedValue | str]
