@@ -16,7 +16,7 @@ from functools import lru_cache
 from typing import NamedTuple
 
 from .context import FitContext, Skip, skip_reason
-from .defaults import CAUTIONS_WITH_ANTI_SEIZE, CONICAL_SEAT_ANGLE_DEG
+from .defaults import CAUTIONS, CAUTIONS_WITH_ANTI_SEIZE, CONICAL_SEAT_ANGLE_DEG
 from .designation import format_designation, parse_designation
 from .geometry import SHELL_EDGE, TIP
 from .insert import (
@@ -418,10 +418,10 @@ def check_torque(ctx: FitContext) -> None:
     if lubrication is None:
         lubrication = "dry"
         ctx.assume(_DRY_THREADS_ASSUMED)
+    if material == "aluminium":
+        ctx.cautions = _ALUMINIUM_CAUTIONS[lubrication == "anti_seize"]
     elif lubrication == "anti_seize":
         ctx.cautions = CAUTIONS_WITH_ANTI_SEIZE
-    if material == "aluminium":
-        ctx.cautions = ctx.cautions + (ALUMINIUM_COLD_CAUTION,)
     limits = torque_limits(guide)[lubrication]
     guide = ctx.torque = limits.guide
     planned = ctx.options.torque
@@ -438,6 +438,9 @@ def check_torque(ctx: FitContext) -> None:
                 _TORQUE_MESSAGES[standing, lubrication], **values)
 
 
+# The cautions of a fit in an aluminium head, without and with anti-seize: made once.
+_ALUMINIUM_CAUTIONS = {False: (*CAUTIONS, ALUMINIUM_COLD_CAUTION),
+                       True: (*CAUTIONS_WITH_ANTI_SEIZE, ALUMINIUM_COLD_CAUTION)}
 _DRY_THREADS_ASSUMED = ("lubrication not given: the torque range for clean, dry threads is used "
                         "(give lubrication: oiled or anti_seize to have it lowered)")
 
@@ -613,6 +616,7 @@ def _insert_strength(ctx: FitContext, insert: Insert, diameter: float, pitch: fl
         "insert_in_head_strip_strength": (head_side.strip_strength_n, "force"),
         "insert_in_head_engaged_length": (in_head, LENGTH),
         "plug_in_insert_strip_strength": (plug_side.strip_strength_n, "force"),
+        "plug_in_insert_engaged_length": (engaged, LENGTH),
         "insert_outer_diameter": (outer_diameter, LENGTH, "from memory" if insert.kind != SOLID else "derived",
                                   outer_source)}
     if head_side.strip_strength_n < plug_side.strip_strength_n:
