@@ -63,6 +63,12 @@ choice, with its grade):
 - hex: any; another family is noted (`hex_differs`), as HEX_DIFFERS does;
 - resistor: a resistor plug is only replaced by a resistor plug (one whose resistor is
   unknown does not count as one); a non-resistor plug may be replaced by either.
+- seat (issue 18, where both plugs give the value): a conical seat only by one of the
+  same taper angle (`seat.angles_differ`), a flat seat's gasket only by one no wider
+  (a wider one may overhang a spot face the original's cleared), a conical seat's taper
+  only by one no narrower (a narrower one may leave a taper mouth bare). Where either
+  plug leaves the value out, nothing is decided by it: the fit check against the head
+  says `NOT_CHECKED` for it.
 
 Nominal values are compared: the tolerances of the two plugs are the makers' and apply
 to both. Heat range (only on the same named scale) and terminal top are reported as
@@ -465,6 +471,18 @@ def heat_range_difference(original: HeatRange | None, candidate: HeatRange | Non
     return candidate.value - original.value
 
 
+def _same_seat_fit(original: PlugSpec, candidate: PlugSpec) -> bool:
+    """The candidate's seat meets every head the original's meets, as far as both say."""
+    if original.seat_angle_deg is not None and candidate.seat_angle_deg is not None \
+            and angles_differ(candidate.seat_angle_deg, original.seat_angle_deg):
+        return False
+    if original.gasket_outside_diameter is not None and candidate.gasket_outside_diameter is not None \
+            and gasket_overhangs(candidate.gasket_outside_diameter, original.gasket_outside_diameter):
+        return False
+    return not (original.seat_diameter is not None and candidate.seat_diameter is not None
+                and taper_mouth_bare(original.seat_diameter, candidate.seat_diameter))
+
+
 def compare(original: PlugSpec, candidate: PlugSpec, catalog: Catalog,
             tolerances: Tolerances = Tolerances(),
             original_position: Position | None = None) -> Comparison | None:
@@ -472,6 +490,8 @@ def compare(original: PlugSpec, candidate: PlugSpec, catalog: Catalog,
     if candidate.thread != original.thread or candidate.seat != original.seat:
         return None
     if original.resistor is True and candidate.resistor is not True:
+        return None
+    if not _same_seat_fit(original, candidate):
         return None
     here = original_position or position(original, catalog)
     there = position(candidate, catalog)

@@ -226,3 +226,17 @@ def test_interchange_is_symmetric_when_the_resistor_rule_does_not_decide(first, 
         assert forward.thread_end_difference == pytest.approx(-backward.thread_end_difference)
         assert forward.closeness == pytest.approx(backward.closeness)
         assert forward.hex_differs == backward.hex_differs
+
+
+def test_a_replacement_keeps_the_seat_where_both_plugs_give_it(catalog):
+    # seat_diameter check's rules: tapers within 1 deg are one taper (common practice, from memory)
+    conical = PlugSpec("M14x1.25", "conical", reach=Dim(11.7), firing_end=Dim(3.0), seat_angle_deg=63.0,
+                       seat_diameter=18.0)
+    assert compare(conical, changed(conical, seat_angle_deg=63.5), catalog) is not None
+    assert compare(conical, changed(conical, seat_angle_deg=60.0), catalog) is None
+    assert compare(conical, changed(conical, seat_angle_deg=None), catalog) is not None  # not known: not decided
+    assert compare(conical, changed(conical, seat_diameter=17.5), catalog) is None  # may leave a taper mouth bare
+    assert compare(conical, changed(conical, seat_diameter=18.5), catalog) is not None
+    wide = changed(BASE, gasket_outside_diameter=19.0)
+    assert compare(wide, changed(wide, gasket_outside_diameter=20.0), catalog) is None  # may overhang a spot face
+    assert compare(wide, changed(wide, gasket_outside_diameter=18.5), catalog) is not None
