@@ -21,6 +21,7 @@ from .designation import format_designation, parse_designation
 from .geometry import SHELL_EDGE, TIP
 from .insert import (
     ALUMINIUM_COLD_CAUTION,
+    COIL,
     COIL_TAP_SOURCE,
     DEFAULT_MATERIAL,
     INSERT_CAUTION,
@@ -591,8 +592,7 @@ def _insert_strength(ctx: FitContext, insert: Insert, diameter: float, pitch: fl
     material = insert.material
     if material is None:
         material = DEFAULT_MATERIAL[insert.kind]
-        ctx.assume(f"thread strength: the insert's material not given: {material.replace('_', ' ')} is assumed "
-                   f"({'coil inserts are wound from stainless wire, common practice, from memory' if insert.kind != SOLID else 'the weaker steel listed'})")
+        ctx.assume(_INSERT_MATERIAL_ASSUMED[insert.kind])
     insert_material = _INSERT_MATERIALS[material]
     plug_side = thread_strength(
         torque_nm=torque, lubrication=options.lubrication, seat=port.seat, nominal_diameter_mm=diameter,
@@ -675,6 +675,11 @@ _HEAD_MATERIALS = {
 
 
 _INSERT_MATERIALS = INSERT_MATERIAL_SHEAR_STRENGTH
+_INSERT_MATERIAL_ASSUMED = {
+    kind: (f"thread strength: the insert's material not given: {DEFAULT_MATERIAL[kind].replace('_', ' ')} is "
+           f"assumed ({why})")
+    for kind, why in ((COIL, "coil inserts are wound from stainless wire, common practice, from memory"),
+                      (SOLID, "the weaker steel listed"))}
 _INSERT_VALUES: dict[str, tuple[dict[str, Value | SourcedValue], tuple[str, str]]] = {
     name: ({"room_temperature_shear_strength": (strength.shear_strength_mpa, "stress", strength.grade,
                                                 strength.source),
