@@ -20,7 +20,8 @@ from .fields import QuantitySchema
 VERDICTS = ("pass", "warn", "fail")
 SEVERITIES = ("info", "warn", "fail")
 UNIT_SYSTEMS = ("metric", "imperial")
-GEOMETRY_ENTRIES = ("protrusion_short_side", "protrusion_long_side", "tip_position", "piston_margin", "valve_margin")
+GEOMETRY_ENTRIES = ("protrusion_short_side", "protrusion_long_side", "tip_position", "piston_margin", "valve_margin",
+                    "insert_protrusion_short_side", "insert_protrusion_long_side")
 
 
 class FindingSchema(Schema):
@@ -59,6 +60,12 @@ class GeometrySchema(Schema):
         "description": "the smaller, bound by bound, of the electrode tip's and the shell edge's margins to the "
                        "piston crown (analysis.piston says which governs)"})
     valve_margin = fields.Nested(GeometryEntrySchema, metadata={"description": "the electrode tip's"})
+    insert_protrusion_short_side = fields.Nested(GeometryEntrySchema, metadata={
+        "description": "a thread insert's length minus the port depth (short side): positive, the insert stands "
+                       "into the chamber; negative, the head's tapped thread is bare past its end. INSERT_SHORT "
+                       "reads its low bound"})
+    insert_protrusion_long_side = fields.Nested(GeometryEntrySchema, metadata={
+        "description": "the insert's length minus the long side's port depth. INSERT_PROUD reads its high bound"})
 
 
 _QUANTITY_JSON_SCHEMA = {"type": "object", "required": ["value", "unit"],
@@ -103,7 +110,10 @@ class FitResultSchema(Schema):
                            required=True, metadata={
                                "description": "what each check computed: quantities, and for the piston check its "
                                               "governing_feature (tip or shell_edge), tip_margin and "
-                                              "shell_edge_margin at the bound the verdict reads"})
+                                              "shell_edge_margin at the bound the verdict reads; for the "
+                                              "thread strength of a port with an insert its "
+                                              "governing_interface (insert_in_head or plug_in_insert); for the "
+                                              "seat diameter the hex_form (six-point or twelve-point)"})
     torque = fields.Nested(TorqueSchema, allow_none=True, required=True)
     assumptions = fields.List(fields.String(), required=True)
     cautions = fields.List(fields.String(), required=True)

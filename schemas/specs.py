@@ -17,7 +17,17 @@ from service.fitment.catalog import MATERIALS, SEATS
 from service.fitment.checks import CHECK_NAMES
 from service.fitment.defaults import GASKET_CONDITIONS, LUBRICATIONS, STACKS
 from service.fitment.designation import format_designation, parse_designation
-from service.fitment.model import HeatRange, HeatRangeBand, Options, PlugSpec, PortSpec, Span
+from service.fitment.model import (
+    INSERT_KINDS,
+    INSERT_MATERIALS,
+    HeatRange,
+    HeatRangeBand,
+    Insert,
+    Options,
+    PlugSpec,
+    PortSpec,
+    Span,
+)
 from service.fitment.running import ROD_MATERIALS
 
 from .fields import SEAT_ALIASES, Choice, Length, Pressure, Quantity, WholeNumber
@@ -39,6 +49,11 @@ HEX_RANGE_MM = (8.0, 40.0)
 MAX_INCLINATION_DEG = 75.0
 # Above any piston engine a plug fits; past it a speed is a typo (rpm written for something else).
 MAX_RPM = 25_000.0
+# Seat diameters (gasket, spot face, counterbore, taper) in mm, and included taper angles
+# in degrees: a plug seat is some 10-40 mm across; tapers are quoted near 60 deg.
+SEAT_DIAMETER_RANGE_MM = (5.0, 80.0)
+SEAT_ANGLE_RANGE_DEG = (20.0, 150.0)
+MAX_INSERT_MM = 60.0
 
 
 def _catalog():
@@ -156,11 +171,19 @@ class BootRangeSchema(Schema):
 
 
 def plug_can_exist(data: dict) -> None:
-    """A plug of a standard thread (unless declared otherwise); a gasket on a flat seat only."""
+    """A plug of a standard thread (unless declared otherwise); a gasket on a flat seat only,
+    a taper's angle and diameter on a conical one, seat diameters outside the thread."""
     errors: dict[str, list[str]] = {}
     _check_thread_is_standard(data, errors)
     if data.get("seat") == "conical" and data.get("gasket_thickness") is not None:
         errors.setdefault("gasket_thickness", []).append("a conical-seat plug has no gasket")
+    if data.get("seat") == "conical" and data.get("gasket_outside_diameter") is not None:
+        errors.setdefault("gasket_outside_diameter", []).append("a conical-seat plug has no gasket")
+    if data.get("seat") == "flat":
+        for name in ("seat_angle", "seat_diameter"):
+            if data.get(name) is not None:
+                errors.setdefault(name, []).append("for a conical seat only: a flat seat seals on its gasket")
+    _check_wider_than_thread(data, errors, ("gasket_outside_diameter", "seat_diameter"))
     if errors:
         raise ValidationError(errors)
 
@@ -188,6 +211,18 @@ class PlugDimensionsSchema(RuledSchema):
     terminal_height = Length(maximum=MAX_CLEARANCE_MM, metadata={"description": "seat to top of terminal"})
     heat_range = fields.Nested(HeatRangeSchema, allow_none=True)
     gap = Quantity("length", minimum=0.0, maximum=5.0, bare_unit="mm", metadata={"example": 0.8})
+    gasket_outside_diameter = Quantity(
+        "length", minimum=SEAT_DIAMETER_RANGE_MM[0], maximum=SEAT_DIAMETER_RANGE_MM[1], bare_unit="mm",
+        allow_none=True, metadata={"description": "flat seat: the gasket's outside diameter; it must bear on the "
+                                                  "head's spot_face_diameter", "example": 19.0})
+    seat_angle = Quantity("angle", minimum=SEAT_ANGLE_RANGE_DEG[0], maximum=SEAT_ANGLE_RANGE_DEG[1], bare_unit="deg",
+                          allow_none=True, metadata={"description": "conical seat: the taper's included angle; "
+                                                     "compared with the head's seat_angle (63 deg when not given)",
+                                                     "example": 63.0})
+    seat_diameter = Quantity("length", minimum=SEAT_DIAMETER_RANGE_MM[0], maximum=SEAT_DIAMETER_RANGE_MM[1],
+                             bare_unit="mm", allow_none=True, metadata={
+                                 "description": "conical seat: the taper's largest diameter, where it meets the "
+                                                "shell; it must cover the head's taper mouth (spot_face_diameter)"})
 
 
 class StoredPlugSchema(PlugDimensionsSchema):
@@ -209,6 +244,34 @@ def plug_reference_or_inline(data: dict) -> None:
 def head_reference_or_inline(data: dict) -> None:
     """A stored head by its head_id alone, or a port's thread and seat inline."""
     _reference_or_inline(data, "head_id", ("thread", "seat"))
+
+
+def _check_wider_than_thread(data: dict, errors: dict, names: tuple[str, ...]) -> None:
+    """A seat diameter lies outside the thread it surrounds."""
+    numbers = parse_designation(data["thread"]) if data.get("thread") else None
+    if numbers is None:
+        return
+    for name in names:
+        value = data.get(name)
+        if value is not None and value <= numbers[0]:
+            errors.setdefault(name, []).append(f"must be larger than the thread's {numbers[0]:g} mm diameter")
+
+
+class InsertSchema(Schema):
+    """A thread-repair insert in the port."""
+
+    class Meta:
+        unknown = RAISE
+
+    kind = Choice(INSERT_KINDS, {"helical": "coil", "helical_coil": "coil", "wire": "coil", "bushing": "solid",
+                                 "sleeve": "solid"}, required=True, metadata={
+        "description": "coil (a helical-coil wire insert) or solid (a bushing insert)"})
+    length = Length(maximum=MAX_INSERT_MM, metadata={
+        "description": "from the head's seat face to the insert's chamber end", "example": 12.7})
+    outer_thread = Thread(metadata={"description": "solid insert: its outer thread, e.g. M16x1.5 (a coil insert's "
+                                                   "follows its tap)"})
+    material = Choice(INSERT_MATERIALS, {"stainless": "stainless_steel", "steel": "carbon_steel"}, allow_none=True,
+                      metadata={"description": "default: stainless_steel for a coil, carbon_steel for a solid insert"})
 
 
 def _reference_or_inline(data: dict, key: str, required: tuple[str, ...]) -> None:
@@ -233,8 +296,10 @@ class PlugInputSchema(PlugDimensionsSchema):
 
 def port_can_exist(data: dict) -> None:
     """A port of a standard thread (unless declared otherwise), each dimension given one
-    way, pressures that agree with each other, a long side no shorter than the short one."""
-    errors: dict[str, list[str]] = {}
+    way, pressures that agree with each other, a long side no shorter than the short one;
+    a taper's angle on a conical seat only, seat diameters outside the thread, a solid
+    insert's outer thread larger than the port's and no outer thread for a coil."""
+    errors: dict[str, Any] = {}
     _check_thread_is_standard(data, errors)
     for first, second in (("port_depth", "design_reach"), ("piston_clearance", "seat_to_piston"),
                           ("valve_clearance", "seat_to_valve")):
@@ -249,6 +314,19 @@ def port_can_exist(data: dict) -> None:
     depth, long_side = data.get("port_depth"), data.get("port_depth_long_side")
     if depth is not None and long_side is not None and long_side.nominal < depth.nominal:
         errors.setdefault("port_depth_long_side", []).append("the long side cannot be shorter than port_depth")
+    if data.get("seat") == "flat" and data.get("seat_angle") is not None:
+        errors.setdefault("seat_angle", []).append("for a conical seat only: a flat seat has no taper")
+    _check_wider_than_thread(data, errors, ("spot_face_diameter", "counterbore_diameter"))
+    insert = data.get("insert")
+    if insert is not None:
+        outer = insert.get("outer_thread")
+        if outer is not None and insert.get("kind") == "coil":
+            errors.setdefault("insert", {}).setdefault("outer_thread", []).append(
+                "a coil insert's outer thread follows its tap: give it for a solid insert only")
+        numbers = parse_designation(data["thread"]) if data.get("thread") else None
+        if outer is not None and numbers is not None and parse_designation(outer)[0] <= numbers[0]:
+            errors.setdefault("insert", {}).setdefault("outer_thread", []).append(
+                f"must be larger than the port's thread, {data['thread']}")
     if errors:
         raise ValidationError(errors)
 
@@ -323,6 +401,18 @@ class PortDimensionsSchema(RuledSchema):
                        "(its small end), one cylinder", "example": 520})
     rod_section_area = Quantity("area", minimum=5.0, maximum=50_000.0, bare_unit="mm**2", allow_none=True, metadata={
         "description": "the connecting rod's smallest cross-section (its beam), for its stretch", "example": 150})
+    spot_face_diameter = Quantity(
+        "length", minimum=SEAT_DIAMETER_RANGE_MM[0], maximum=SEAT_DIAMETER_RANGE_MM[1], bare_unit="mm",
+        allow_none=True, metadata={"description": "flat seat: the machined face the gasket bears on; conical seat: "
+                                                  "the taper's mouth at the seat face", "example": 20.0})
+    counterbore_diameter = Quantity(
+        "length", minimum=SEAT_DIAMETER_RANGE_MM[0], maximum=SEAT_DIAMETER_RANGE_MM[1], bare_unit="mm",
+        allow_none=True, metadata={"description": "a counterbore around the plug's hex: the hex must turn in it"})
+    seat_angle = Quantity("angle", minimum=SEAT_ANGLE_RANGE_DEG[0], maximum=SEAT_ANGLE_RANGE_DEG[1], bare_unit="deg",
+                          allow_none=True, metadata={"description": "conical seat: the taper's included angle",
+                                                     "example": 63.0})
+    insert = fields.Nested(InsertSchema, allow_none=True, metadata={
+        "description": "a thread-repair insert in the port, if it has one"})
 
 
 class StoredHeadSchema(PortDimensionsSchema):
@@ -387,16 +477,19 @@ class FitCheckRequestSchema(Schema):
 
 # --- from loaded dicts to the engine's records -----------------------------------------
 
-_PLUG_FIELDS = ("reach", "gasket_thickness", "firing_end", "hex", "resistor", "terminal_height", "gap")
+_PLUG_FIELDS = ("reach", "gasket_thickness", "firing_end", "hex", "resistor", "terminal_height", "gap",
+                "gasket_outside_diameter", "seat_diameter")
 _PORT_FIELDS = ("port_depth", "design_reach", "port_depth_long_side", "piston_clearance", "seat_to_piston",
                 "valve_clearance", "seat_to_valve", "well_bore", "hex", "resistor_required", "material",
-                "compression_ratio", "forced_induction", "max_rpm", "rod_material")
+                "compression_ratio", "forced_induction", "max_rpm", "rod_material", "spot_face_diameter",
+                "counterbore_diameter")
 _PORT_RENAMED = (("intake_pressure", "intake_pressure_bar"), ("boost_pressure", "boost_pressure_bar"),
                  ("intake_temperature", "intake_temperature_k"),
                  ("peak_pressure", "peak_pressure_bar"), ("ignition_voltage", "ignition_voltage_kv"),
                  ("bore", "bore_mm"), ("stroke", "stroke_mm"), ("rod_length", "rod_length_mm"),
                  ("spark_advance", "spark_advance_deg"), ("plug_inclination", "plug_inclination_deg"),
-                 ("reciprocating_mass", "reciprocating_mass_g"), ("rod_section_area", "rod_section_area_mm2"))
+                 ("reciprocating_mass", "reciprocating_mass_g"), ("rod_section_area", "rod_section_area_mm2"),
+                 ("seat_angle", "seat_angle_deg"))
 
 
 def plug_spec(data: dict) -> PlugSpec:
@@ -405,16 +498,19 @@ def plug_spec(data: dict) -> PlugSpec:
     return PlugSpec(
         thread=data["thread"], seat=data["seat"],
         heat_range=HeatRange(heat["scale"], heat["value"]) if heat else None,
+        seat_angle_deg=data.get("seat_angle"),
         **{name: data.get(name) for name in _PLUG_FIELDS})
 
 
 def port_spec(data: dict) -> PortSpec:
     """A loaded head dict (inline or stored) as the engine's record."""
-    band, boot = data.get("heat_range_band"), data.get("boot_range")
+    band, boot, insert = data.get("heat_range_band"), data.get("boot_range"), data.get("insert")
     return PortSpec(
         thread=data["thread"], seat=data["seat"],
         heat_range_band=HeatRangeBand(band["scale"], band["min"], band["max"]) if band else None,
         boot_range=Span(boot["min"].nominal, boot["max"].nominal) if boot else None,
+        insert=Insert(insert["kind"], insert.get("length"), insert.get("outer_thread"), insert.get("material"))
+        if insert else None,
         **{name: data.get(name) for name in _PORT_FIELDS},
         **{new: data.get(old) for old, new in _PORT_RENAMED})
 

@@ -215,6 +215,24 @@ HEADS: list[dict[str, Any]] = [
      "taper seats",
      "thread": "M18x1.5", "seat": "conical", "design_reach": tol(10.9, 0.15), "piston_clearance": tol(12.0, 0.5),
      "hex": 20.8, "material": "cast_iron"},
+    # The seat's machining and thread-repair inserts (issue 18)
+    {"head_id": "DEMO-H-MOWER-RIDE", "description": "Demo engine: ride-on mower single, 452 cc, aluminium head, "
+     "narrow spot face and a counterbore around the plug",
+     "thread": "M14x1.25", "seat": "flat", "design_reach": tol(12.7, 0.15), "piston_clearance": tol(8.0, 0.3),
+     "material": "aluminium", "spot_face_diameter": 19.0, "counterbore_diameter": 24.0},
+    {"head_id": "DEMO-H-OUTBOARD-C", "description": "Demo engine: outboard two-stroke twin, 0.5 L, taper seats cut "
+     "at 60 deg, wide taper mouth",
+     "thread": "M14x1.25", "seat": "conical", "design_reach": tol(11.7, 0.15), "piston_clearance": tol(8.0, 0.3),
+     "material": "aluminium", "seat_angle": 60.0, "spot_face_diameter": 18.0},
+    {"head_id": "DEMO-H-PUMP-COIL", "description": "Demo engine: fire-pump single, 196 cc, stripped port repaired "
+     "with a 12 mm coil insert in a 9.5 mm port",
+     "thread": "M14x1.25", "seat": "flat", "port_depth": tol(9.5, 0.1), "piston_clearance": tol(9.0, 0.3),
+     "material": "aluminium", "insert": {"kind": "coil", "length": 12.0, "material": "stainless_steel"}},
+    {"head_id": "DEMO-H-GENSET-SOLID", "description": "Demo engine: standby generator in-line two, 0.7 L, port "
+     "repaired with a short solid insert",
+     "thread": "M14x1.25", "seat": "flat", "port_depth": tol(17.5, 0.1), "piston_clearance": tol(9.0, 0.3),
+     "material": "aluminium",
+     "insert": {"kind": "solid", "length": tol(16.0, 0.1), "outer_thread": "M18x1.5", "material": "carbon_steel"}},
     # The boosted hill-climb build
     {"head_id": "DEMO-H-RACE", "description": "Demo engine: hill-climb in-line four, 1.7 L, high boost, domed "
      "pistons and big valves (tight clearances)",
@@ -302,10 +320,16 @@ FEATURED: dict[str, Line] = {
                         extra={"gasket_thickness": 0.0,
                                "description": "Demo house line: M14 flat seat, 19 mm reach, standard tip, resistor, "
                                               "cooling index 0.50, gap 0.8 mm, sold without gasket"}),
+    # The seat's diameters (issue 18): a 1/2 in plug with a wide gasket, and a taper plug
+    # that gives its angle and its taper's largest diameter.
+    "DEMO-P-0015": Line("M14x1.25", "flat", 12.7, "standard", 16.0, True, heat(0.40), 0.7, 47.0,
+                        extra={"gasket_outside_diameter": 20.0}),
+    "DEMO-P-0016": Line("M14x1.25", "conical", 11.7, "standard", 16.0, True, heat(0.40), 0.9, 50.0,
+                        extra={"seat_angle": 63.0, "seat_diameter": 17.0}),
 }
 HAND_PLACED_NUMBERS = range(1, 100)
 FIRST_SHELF_NUMBER = 101
-SHELF_LINES = 286  # 300 lines with the 14 hand-placed ones
+SHELF_LINES = 286  # 302 lines with the 16 hand-placed ones
 
 
 def demo_sku(number: int) -> str:
@@ -357,6 +381,18 @@ SHOWCASE = [
     Showcase("DEMO-P-0009", "DEMO-H-KART-2T", ("THREAD_STRIP_RISK",)),
     Showcase("DEMO-P-0009", "DEMO-H-ENDURO", ("TOOL_CLEARANCE",), verdict="fail"),
     Showcase("DEMO-P-0011", "DEMO-H-RACE", ("VALVE_CONTACT",), verdict="fail"),
+    # The seat's diameters: a gasket wider than the spot face; a 20.8 mm six-point hex, 24.02 mm
+    # across its corners, in a 24 mm counterbore.
+    Showcase("DEMO-P-0015", "DEMO-H-MOWER-RIDE", ("GASKET_OVERHANG",), verdict="warn"),
+    Showcase("DEMO-P-0007", "DEMO-H-MOWER-RIDE", ("HEX_TRAPPED",), verdict="fail"),
+    # A 60 deg taper: the plug that gives no angle is taken at the usual 63 deg (warn); one
+    # that gives 63 deg fails, and its 17 mm taper leaves the 18 mm mouth's edge bare.
+    Showcase("DEMO-P-0012", "DEMO-H-OUTBOARD-C", ("SEAT_ANGLE_MISMATCH",), verdict="warn"),
+    Showcase("DEMO-P-0016", "DEMO-H-OUTBOARD-C", ("SEAT_ANGLE_MISMATCH", "TAPER_DIAMETER"), verdict="fail"),
+    # Inserts: a 12 mm coil in a 9.5 mm port stands 2.5 mm proud; a 16 mm solid insert in a
+    # 17.5 mm port leaves the tapped thread bare.
+    Showcase("DEMO-P-0004", "DEMO-H-PUMP-COIL", ("INSERT_FITTED", "INSERT_PROUD"), verdict="fail"),
+    Showcase("DEMO-P-0001", "DEMO-H-GENSET-SOLID", ("INSERT_FITTED", "INSERT_SHORT"), verdict="warn"),
     Showcase("DEMO-P-0013", "DEMO-H-RACE", ("REACH_SHORT", "GAP_VOLTAGE_MARGIN", "HEAT_RANGE_OUT_OF_BAND",
                                             "BOOT_ENGAGEMENT"), verdict="fail", drawing=True),
 ]

@@ -16,11 +16,33 @@ from functools import lru_cache
 from typing import NamedTuple
 
 from .context import FitContext, Skip, skip_reason
-from .defaults import ANTI_SEIZE_CAUTION
-from .designation import parse_designation
+from .defaults import ANTI_SEIZE_CAUTION, CONICAL_SEAT_ANGLE_DEG
+from .designation import format_designation, parse_designation
 from .geometry import SHELL_EDGE, TIP
-from .model import SourcedValue, Value, least_sure
+from .insert import (
+    ALUMINIUM_COLD_CAUTION,
+    COIL,
+    COIL_TAP_SOURCE,
+    DEFAULT_MATERIAL,
+    INSERT_CAUTION,
+    INSERT_MATERIAL_SHEAR_STRENGTH,
+    KIND_WORDS,
+    SOLID,
+    coil_outer_thread,
+)
+from .model import Insert, SourcedValue, Value, least_sure
 from .running import ROD_STRETCH, RULE_OF_THUMB
+from .seat import (
+    SEAT_ANGLE_TOLERANCE_DEG,
+    SIX_POINT,
+    TWELVE_POINT,
+    across_corners,
+    angles_differ,
+    gasket_overhangs,
+    hex_form,
+    hex_trapped,
+    taper_mouth_bare,
+)
 from .spark import (
     STANDARD_INTAKE_PRESSURE_BAR,
     STANDARD_INTAKE_TEMPERATURE_K,
@@ -33,6 +55,7 @@ from .stack import Stack
 from .strength import (
     HEAD_MATERIAL_SHEAR_STRENGTH,
     EngagementAllowances,
+    ThreadStrength,
     engaged_length_mm,
     port_thread_limits,
     thread_strength,
@@ -412,8 +435,10 @@ def check_torque(ctx: FitContext) -> None:
     if lubrication is None:
         lubrication = "dry"
         ctx.assume(_DRY_THREADS_ASSUMED)
-    elif lubrication == "anti_seize":
+    if lubrication == "anti_seize":
         ctx.cautions = (*ctx.cautions, ANTI_SEIZE_CAUTION)
+    if material == "aluminium":
+        ctx.cautions = (*ctx.cautions, ALUMINIUM_COLD_CAUTION)
     limits = torque_limits(guide)[lubrication]
     guide = ctx.torque = limits.guide
     planned = ctx.options.torque
@@ -495,16 +520,31 @@ def check_thread_strength(ctx: FitContext) -> None:
     gasket, depth = ctx.gasket, ctx.port_depth
     # A thread protrusion exists, so the plug has a reach and the port a depth.
     assert plug.reach is not None and gasket is not None and depth is not None
+    depth_min = depth.nominal - depth.down
+    insert = port.insert
+    if insert is not None:
+        if insert.length is None:
+            ctx.not_checked("thread_strength", "the thread insert's length not given")
+            return
+        # The plug's thread engages the insert, which ends at its own length.
+        depth_min = insert.length.nominal - insert.length.minus
     engaged = engaged_length_mm(reach_min_mm=plug.reach.nominal - plug.reach.minus,
                                 standoff_min_mm=gasket.nominal - gasket.down,
                                 standoff_max_mm=gasket.nominal + gasket.up,
-                                port_depth_min_mm=depth.nominal - depth.down,
+                                port_depth_min_mm=depth_min,
                                 allowances=allowances)
     result = thread_strength(
         torque_nm=torque, lubrication=options.lubrication, seat=port.seat, nominal_diameter_mm=diameter,
         pitch_mm=pitch, external_major_min_mm=limits.external_major_min_mm,
         internal_pitch_max_mm=limits.internal_pitch_max_mm, engaged_length_mm=engaged,
         shear_strength_mpa=hot_shear_strength, peak_pressure_bar=port.peak_pressure_bar)
+    interface = None
+    if insert is not None:
+        governing = _insert_strength(ctx, insert, diameter, pitch, limits, depth_min, depth.nominal - depth.down,
+                                     engaged, torque)
+        if governing is None:
+            return
+        result, strength_values, shear_strength_grade, area_source, interface = governing
     (torque_nm, nut_factor, preload, gas_load, engaged_length, shear_area, shear_strength, strip_strength,
      safety_factor, min_safety_factor) = result  # one unpacking instead of eleven field reads
     if not math.isfinite(safety_factor):  # a planned torque of (nearly) zero and no gas load
@@ -517,14 +557,89 @@ def check_thread_strength(ctx: FitContext) -> None:
         **strength_values, "shear_strength": (shear_strength, "stress", *shear_strength_grade),
         "strip_strength": (strip_strength, "force"), "safety_factor": (safety_factor, "ratio"),
         "min_safety_factor": (min_safety_factor, "ratio")}
-    ctx.analysis["thread_strength"] = values
+    analysis: dict[str, Value | SourcedValue | str] = dict(values)
+    if interface is not None:
+        analysis["governing_interface"] = interface[0]
+        analysis.update(interface[1])
+    ctx.analysis["thread_strength"] = analysis
     if safety_factor < min_safety_factor:  # ThreadStrength.at_risk
         ctx.add("THREAD_STRIP_RISK", "thread_strength", "warn",
-                "The head's thread is estimated to hold {strip_strength} over {engaged_length} of engaged "
-                "thread (worst case) against {load} ({preload} preload at {torque} plus {gas_load} gas "
-                "load): a safety factor of {safety_factor}, below {min_safety_factor}. It may strip: "
-                "prefer a plug whose reach fills the port, a torque at the low end of the guidance, or a "
-                "thread insert. This is guidance: the engine maker's data comes first.", **values)
+                _STRIP_MESSAGES[None if interface is None else interface[0]], **values)
+
+
+_STRIP_LOAD = ("over {engaged_length} of engaged thread (worst case) against {load} ({preload} preload at {torque} "
+               "plus {gas_load} gas load): a safety factor of {safety_factor}, below {min_safety_factor}. It may "
+               "strip: ")
+_STRIP_MESSAGES = {
+    None: ("The head's thread is estimated to hold {strip_strength} " + _STRIP_LOAD + "prefer a plug whose reach "
+           "fills the port, a torque at the low end of the guidance, or a thread insert." + GUIDANCE),
+    "insert_in_head": ("The thread insert's outer thread is estimated to hold {strip_strength} in the head "
+                       + _STRIP_LOAD + "the insert can pull out of the head. Prefer a torque at the low end of the "
+                       "guidance, or a longer insert or one with a larger outer thread." + GUIDANCE),
+    "plug_in_insert": ("The plug's thread in the insert is estimated to hold {strip_strength} " + _STRIP_LOAD
+                       + "prefer a plug whose reach fills the insert, or a torque at the low end of the guidance."
+                       + GUIDANCE),
+}
+
+_Governing = tuple[ThreadStrength, dict[str, Value | SourcedValue], tuple[str, str], str,
+                   tuple[str, dict[str, Value | SourcedValue | str]]]
+
+
+def _insert_strength(ctx: FitContext, insert: Insert, diameter: float, pitch: float, limits: ThreadLimits,
+                     insert_end_min: float, depth_min: float, engaged: float, torque: float) -> _Governing | None:
+    """The weaker of the two interfaces of an insert: the plug's thread in the insert (the
+    insert's material) and the insert's outer thread in the head (the head's material, over
+    the insert's length inside the head). None when it cannot be told (reported)."""
+    port, options = ctx.port, ctx.options
+    if insert.kind == SOLID:
+        outer = parse_designation(insert.outer_thread) if insert.outer_thread is not None else None
+        if outer is None or outer[1] is None:
+            ctx.not_checked("thread_strength", "the solid insert's outer_thread (with its pitch) not given")
+            return None
+        outer_diameter, outer_pitch = outer[0], outer[1]
+        outer_name, outer_source = format_designation(outer_diameter, outer_pitch), "the insert's outer_thread"
+    else:
+        outer_diameter, outer_pitch, outer_name = coil_outer_thread(diameter, pitch)
+        outer_source = COIL_TAP_SOURCE
+        ctx.assume(f"thread strength: the coil insert sits in a tapped thread of {outer_name} ({outer_source})")
+    material = insert.material
+    if material is None:
+        material = DEFAULT_MATERIAL[insert.kind]
+        ctx.assume(_INSERT_MATERIAL_ASSUMED[insert.kind])
+    insert_material = _INSERT_MATERIALS[material]
+    plug_side = thread_strength(
+        torque_nm=torque, lubrication=options.lubrication, seat=port.seat, nominal_diameter_mm=diameter,
+        pitch_mm=pitch, external_major_min_mm=limits.external_major_min_mm,
+        internal_pitch_max_mm=limits.internal_pitch_max_mm, engaged_length_mm=engaged,
+        shear_strength_mpa=insert_material.hot_shear_strength_mpa, peak_pressure_bar=port.peak_pressure_bar)
+    # The insert's outer thread is taken at 6g in a 6H tapped hole (ISO 965-1 by formula; an
+    # approximation for a coil's wire, from memory). It bears in the head from the lead chamfer
+    # to the insert's end or the chamber, whichever comes first, less one incomplete thread.
+    outer_limits = port_thread_limits(outer_diameter, outer_pitch, "6g")
+    in_head = max(0.0, min(insert_end_min, depth_min) - 2.0 * outer_pitch)
+    head_material = ctx.port.material or "aluminium"
+    head_strength, head_values, head_grade = _HEAD_MATERIALS[head_material]
+    # The load is the plug's (its diameter); the shear area is the outer thread's (its pitch).
+    head_side = thread_strength(
+        torque_nm=torque, lubrication=options.lubrication, seat=port.seat, nominal_diameter_mm=diameter,
+        pitch_mm=outer_pitch, external_major_min_mm=outer_limits.external_major_min_mm,
+        internal_pitch_max_mm=outer_limits.internal_pitch_max_mm, engaged_length_mm=in_head,
+        shear_strength_mpa=head_strength, peak_pressure_bar=port.peak_pressure_bar)
+    other: dict[str, Value | SourcedValue | str] = {
+        "insert_in_head_strip_strength": (head_side.strip_strength_n, "force"),
+        "insert_in_head_engaged_length": (in_head, LENGTH),
+        "plug_in_insert_strip_strength": (plug_side.strip_strength_n, "force"),
+        "plug_in_insert_engaged_length": (engaged, LENGTH),
+        "insert_outer_diameter": (outer_diameter, LENGTH, "from memory" if insert.kind != SOLID else "derived",
+                                  outer_source)}
+    if head_side.strip_strength_n < plug_side.strip_strength_n:
+        source = (f"FED-STD-H28/2B appendix and Machinery's Handbook, 29th ed. (published formula), the insert's "
+                  f"outer thread {outer_name} at ISO 965-1 6g in a 6H tapped hole (an approximation for a coil)")
+        return head_side, head_values, head_grade, source, ("insert_in_head", other)
+    insert_values, insert_grade = _INSERT_VALUES[material]
+    source = "FED-STD-H28/2B appendix and Machinery's Handbook, 29th ed. (published formula), the port's thread " \
+             "formed by the insert"
+    return plug_side, insert_values, insert_grade, source, ("plug_in_insert", other)
 
 
 _PortThread = tuple[float, float, ThreadLimits, EngagementAllowances, str]
@@ -570,6 +685,22 @@ _HEAD_MATERIALS = {
          (f"the minimum at room temperature ({strength.shear_strength_mpa:.1f} MPa) x the hot-boss derating "
          f"({strength.hot_derating:g})")))
     for name, strength in HEAD_MATERIAL_SHEAR_STRENGTH.items()}
+
+
+_INSERT_MATERIALS = INSERT_MATERIAL_SHEAR_STRENGTH
+_INSERT_MATERIAL_ASSUMED = {
+    kind: (f"thread strength: the insert's material not given: {DEFAULT_MATERIAL[kind].replace('_', ' ')} is "
+           f"assumed ({why})")
+    for kind, why in ((COIL, "coil inserts are wound from stainless wire, common practice, from memory"),
+                      (SOLID, "the weaker steel listed"))}
+_INSERT_VALUES: dict[str, tuple[dict[str, Value | SourcedValue], tuple[str, str]]] = {
+    name: ({"room_temperature_shear_strength": (strength.shear_strength_mpa, "stress", strength.grade,
+                                                strength.source),
+            "hot_boss_derating": (strength.hot_derating, "ratio", strength.hot_derating_grade,
+                                  strength.hot_derating_source)},
+           (least_sure(strength.grade, strength.hot_derating_grade),
+            f"the insert's minimum ({strength.shear_strength_mpa:.1f} MPa) x the derating ({strength.hot_derating:g})"))
+    for name, strength in INSERT_MATERIAL_SHEAR_STRENGTH.items()}
 
 
 def check_gap_voltage(ctx: FitContext) -> None:
@@ -712,6 +843,186 @@ def check_boot(ctx: FitContext) -> None:
                 **values, distance=(tall, LENGTH))
 
 
+def check_seat_diameter(ctx: FitContext) -> None:
+    """Does the seat meet the head's machining? A flat seat's gasket must bear on the spot
+    face, the hex must turn in a counterbore, a conical seat must meet a taper of its own
+    angle whose mouth the plug's taper covers. Rules: `seat.py` (shared with the counter)."""
+    port, plug = ctx.port, ctx.plug
+    spot_face, counterbore, port_angle = port.spot_face_diameter, port.counterbore_diameter, port.seat_angle_deg
+    if spot_face is None and counterbore is None and port_angle is None:
+        ctx.skip(_SEAT_DIAMETER_NOT_GIVEN)
+        return
+    missing = []
+    compared = False
+    if counterbore is not None:
+        if plug.hex is None:
+            missing.append("the plug's hex (for the counterbore)")
+        else:
+            compared = True
+            _hex_in_counterbore(ctx, plug.hex, counterbore)
+    if port.seat == "flat":
+        if port_angle is not None:
+            ctx.assume(_ANGLE_ON_FLAT_PORT)
+        if spot_face is not None:
+            gasket = plug.gasket_thickness
+            if gasket is not None and gasket.nominal <= EPSILON_MM:
+                missing.append("a gasket (the plug has none, GASKET_MISSING)")
+            elif plug.gasket_outside_diameter is None:
+                missing.append("the plug's gasket_outside_diameter (no source gives a standard one)")
+            else:
+                compared = True
+                if gasket_overhangs(plug.gasket_outside_diameter, spot_face):
+                    ctx.add("GASKET_OVERHANG", "seat_diameter", "warn", _GASKET_OVERHANG_MESSAGE,
+                            gasket_outside_diameter=(plug.gasket_outside_diameter, LENGTH),
+                            spot_face_diameter=(spot_face, LENGTH),
+                            overhang=((plug.gasket_outside_diameter - spot_face) / 2.0, LENGTH))
+    else:
+        if port_angle is not None:
+            compared = True
+            plug_angle = plug.seat_angle_deg
+            if plug_angle is None:
+                plug_angle = CONICAL_SEAT_ANGLE_DEG.value
+                ctx.assume(_PLUG_ANGLE_ASSUMED)
+            if angles_differ(plug_angle, port_angle):
+                # A fail on the plug's own angle; a warning when that angle is only the usual one.
+                given = plug.seat_angle_deg is not None
+                ctx.add("SEAT_ANGLE_MISMATCH", "seat_diameter", "fail" if given else "warn",
+                        _SEAT_ANGLE_MESSAGES[given], plug_angle=(plug_angle, "angle"),
+                        port_angle=(port_angle, "angle"), tolerance=(SEAT_ANGLE_TOLERANCE_DEG, "angle"))
+        if spot_face is not None:
+            if plug.seat_diameter is None:
+                missing.append("the plug's seat_diameter (the largest diameter of its taper)")
+            else:
+                compared = True
+                if taper_mouth_bare(spot_face, plug.seat_diameter):
+                    ctx.add("TAPER_DIAMETER", "seat_diameter", "warn", _TAPER_DIAMETER_MESSAGE,
+                            taper_mouth=(spot_face, LENGTH), seat_diameter=(plug.seat_diameter, LENGTH),
+                            bare_ring=((spot_face - plug.seat_diameter) / 2.0, LENGTH))
+    if missing:
+        ctx.not_checked("seat_diameter", " and ".join(missing) + " not given"
+                        + ("; the rest was compared" if compared else ""))
+
+
+def _hex_in_counterbore(ctx: FitContext, hex_mm: float, counterbore: float) -> None:
+    form, listed = hex_form(ctx.catalog, hex_mm)
+    corners = across_corners(hex_mm, form)
+    if not listed:
+        ctx.assume(_HEX_FORM_UNLISTED)
+    values: dict[str, Value | SourcedValue] = {
+        "hex": (hex_mm, LENGTH), "across_corners": (corners, LENGTH), "counterbore_diameter": (counterbore, LENGTH)}
+    ctx.analysis["seat_diameter"] = {**values, "hex_form": form}
+    if hex_trapped(corners, counterbore):
+        ctx.add("HEX_TRAPPED", "seat_diameter", "fail", _HEX_TRAPPED_MESSAGES[form],
+                **values, interference=(corners - counterbore, LENGTH))
+        return
+    if form == TWELVE_POINT and hex_trapped(across_corners(hex_mm, SIX_POINT), counterbore):
+        ctx.assume(f"seat diameter: the {hex_mm:g} mm hex is taken as twelve-point, as the catalogue gives it; a "
+                   f"six-point hex of that size is {across_corners(hex_mm, SIX_POINT):.2f} mm across its corners "
+                   f"and would not turn in the {counterbore:g} mm counterbore: check the plug's hex form")
+    size = ctx.catalog.hex_size(hex_mm)
+    if size is not None and size.socket_od_mm > counterbore + EPSILON_MM:
+        ctx.assume(f"seat diameter: a thin-wall socket for the {size.label} hex is about {size.socket_od_mm:.1f} mm "
+                   f"across, wider than the {counterbore:g} mm counterbore: it reaches the hex only if the hex "
+                   "stands above the counterbore")
+
+
+_SEAT_DIAMETER_NOT_GIVEN = skip_reason("seat_diameter", "the head gives no spot_face_diameter, "
+                                                        "counterbore_diameter or seat_angle")
+_ANGLE_ON_FLAT_PORT = "seat diameter: the head's seat_angle is for a conical seat and is not used on a flat one"
+_PLUG_ANGLE_ASSUMED = (f"seat diameter: the plug's seat_angle not given: {CONICAL_SEAT_ANGLE_DEG.value:g} deg "
+                       f"included ({CONICAL_SEAT_ANGLE_DEG.source})")
+_HEX_FORM_UNLISTED = ("seat diameter: the plug's hex is not in the catalogue: it is taken as six-point, the form "
+                      "with the larger corners")
+_GASKET_OVERHANG_MESSAGE = (
+    "The plug's gasket, {gasket_outside_diameter} across, is wider than the head's {spot_face_diameter} spot face: "
+    "its outer {overhang} overhangs the machined face. The gasket seals and passes the plug's heat to the head only "
+    "where it is clamped on the face, so the seal has less margin and the plug runs hotter; the overhang can crush "
+    "unevenly over the face's edge. Have the spot face machined wider, or use a plug with a narrower gasket."
+    + GUIDANCE)
+_HEX_TRAPPED_MESSAGES = {
+    form: (f"The plug's {{hex}} {form} hex is {{across_corners}} across its corners, wider than the head's "
+           "{counterbore_diameter} counterbore by {interference}: the hex cannot turn in it, so the plug cannot "
+           "be screwed home or removed.")
+    for form in (SIX_POINT, TWELVE_POINT)}
+_SEAT_ANGLE_MESSAGES = {
+    given: (f"The plug's conical seat{'' if given else ' (taken as the usual angle: the plug gives none)'} is "
+            "{plug_angle} included and the head's taper {port_angle}, more than {tolerance} apart: the two meet on "
+            "a line instead of a band, so the seal leaks, the heat path is a ring, and the plug can loosen."
+            + ("" if given else " Check the plug's taper angle.") + GUIDANCE)
+    for given in (True, False)}
+_TAPER_DIAMETER_MESSAGE = (
+    "The head's taper opens to {taper_mouth} at the seat face, wider than the plug's taper ({seat_diameter}): a "
+    "ring of {bare_ring} of the head's taper is left bare, so the plug seals on its own taper only, carbon "
+    "collects in the bare ring, and the plug sits deeper than a taper that fills the head's would." + GUIDANCE)
+
+
+def check_insert(ctx: FitContext) -> None:
+    """A port repaired with a thread insert: name it in every result, and measure where it
+    ends against the chamber (an insert longer than the port stands proud into it; a shorter
+    one leaves the head's tapped threads bare between its end and the chamber). Its strength
+    is `check_thread_strength`'s governing interface."""
+    insert = ctx.port.insert
+    if insert is None:
+        return
+    ctx.cautions = ctx.cautions + (INSERT_CAUTION,)
+    values: dict[str, Value | SourcedValue] = {}
+    if insert.length is not None:
+        values["insert_length"] = (insert.length.nominal, LENGTH)
+    ctx.add("INSERT_FITTED", "insert", "info", _insert_description(insert.kind, insert.length is not None,
+                                                                  insert.outer_thread, insert.material), **values)
+    geometry = ctx.geometry
+    short_side = geometry.get("insert_protrusion_short_side")
+    long_side = geometry.get("insert_protrusion_long_side")
+    if short_side is None or long_side is None:
+        ctx.not_checked("insert", "the insert's length not given" if insert.length is None
+                        else "the port's port_depth or design_reach not given")
+        return
+    tolerance = ctx.flush_tolerance()
+    standing = ctx.high(long_side)
+    exposed = -ctx.low(short_side)
+    limit, note = ctx.max_protrusion()
+    fails = limit is not None and standing > limit + EPSILON_MM
+    if fails or standing > tolerance + EPSILON_MM:
+        if note is not None:
+            ctx.assume(note)
+        found: dict[str, Value | SourcedValue] = {"distance": (standing, LENGTH),
+                                                  "flush_tolerance": (tolerance, LENGTH)}
+        if limit is not None:
+            found["limit"] = (limit, LENGTH)
+        ctx.add("INSERT_PROUD", "insert", "fail" if fails else "warn", _INSERT_PROUD_MESSAGES[fails], **found)
+    if exposed > tolerance + EPSILON_MM:
+        ctx.add("INSERT_SHORT", "insert", "warn", _INSERT_SHORT_MESSAGE, distance=(exposed, LENGTH),
+                flush_tolerance=(tolerance, LENGTH))
+
+
+@lru_cache(maxsize=64)
+def _insert_description(kind: str, has_length: bool, outer_thread: str | None, material: str | None) -> str:
+    parts = [f"This port is repaired with a {KIND_WORDS[kind]} thread insert"]
+    if has_length:
+        parts.append(" {insert_length} long")
+    if outer_thread is not None:
+        parts.append(f", outer thread {outer_thread}")
+    if material is not None:
+        parts.append(f", of {material.replace('_', ' ')}")
+    return ("".join(parts) + ": the plug's thread bears on the insert, and the insert on the head. The reach and "
+            "strength figures count it. It must be installed to its maker's instructions." + GUIDANCE)
+
+
+_INSERT_PROUD_MESSAGES = {
+    fails: ("The thread insert's end stands {distance} into the chamber (long side, worst case), "
+            + ("more than the {limit} allowed (max_protrusion)" if fails
+               else "beyond the flush tolerance of {flush_tolerance}")
+            + ": an insert longer than the port is a hot spot that can pre-ignite the charge, it carbons up, "
+            "and a coil's last turn can break off into the chamber. Have it replaced by one of the port's length."
+            + GUIDANCE)
+    for fails in (False, True)}
+_INSERT_SHORT_MESSAGE = (
+    "The thread insert ends {distance} short of the chamber (short side, worst case), beyond the flush tolerance "
+    "of {flush_tolerance}: between its end and the chamber the head's oversize tapped thread is bare. It carbons "
+    "up, and a plug whose threads run past the insert turns there in a thread that does not hold it and can "
+    "lock in the carbon." + GUIDANCE)
+
+
 Check = Callable[[FitContext], None]
 
 # Fit first (thread, seat), then geometry, then tooling and electrics, then torque.
@@ -730,13 +1041,15 @@ CHECKS: tuple[Check, ...] = (
     check_gap_voltage,
     check_heat_range,
     check_boot,
+    check_seat_diameter,
+    check_insert,
 )
 
 # The checks that need the plug installed in the port (its position along the axis, the
 # torque it is tightened to). A plug of another thread or seat cannot be installed, so
 # for it only the others run (see `geometry.derive`, which says so in the assumptions).
 NEEDS_INSTALLATION = frozenset({check_gasket, check_reach, check_piston, check_valve, check_torque,
-                                check_thread_strength, check_boot})
+                                check_thread_strength, check_boot, check_seat_diameter})
 CHECKS_WITHOUT_INSTALLATION: tuple[Check, ...] = tuple(check for check in CHECKS if check not in NEEDS_INSTALLATION)
 
 # The names clients use in `check` and in the `require` option: the function name

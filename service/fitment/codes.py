@@ -22,5 +22,12 @@ FINDING_CODES: dict[str, tuple[str, str]] = {
     "GAP_VOLTAGE_MARGIN": ("gap_voltage", "warn"),
     "HEAT_RANGE_OUT_OF_BAND": ("heat_range", "warn"),
     "BOOT_ENGAGEMENT": ("boot", "warn"),
+    "GASKET_OVERHANG": ("seat_diameter", "warn"),
+    "HEX_TRAPPED": ("seat_diameter", "fail"),
+    "SEAT_ANGLE_MISMATCH": ("seat_diameter", "warn, fail"),
+    "TAPER_DIAMETER": ("seat_diameter", "warn"),
+    "INSERT_FITTED": ("insert", "info"),
+    "INSERT_PROUD": ("insert", "warn, fail"),
+    "INSERT_SHORT": ("insert", "warn"),
     "NOT_CHECKED": ("any", "info"),
 }

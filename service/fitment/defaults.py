@@ -47,6 +47,11 @@ MAX_RECESS_PITCHES = Default(2.0, "two pitches of the port's thread (ISO 68-1); 
 REUSED_GASKET_TURN_DEG = Default(30.0, "a re-used gasket is tightened about 1/12 turn past finger-tight "
                                        "(common practice)")
 
+# The included angle of a conical plug seat when the plug gives none: 63 deg is the angle
+# usually quoted for plug tapers (common practice; reference-values.md). Applied only to
+# compare with a head that gives its own taper angle.
+CONICAL_SEAT_ANGLE_DEG = Default(63.0, "the angle usually quoted for conical plug seats, common practice")
+
 STACKS = ("worst_case", "rss")
 GASKET_CONDITIONS = ("new", "reused")
 LUBRICATIONS = ("dry", "oiled", "anti_seize")

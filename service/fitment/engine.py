@@ -13,15 +13,18 @@ from .context import FitContext
 from .geometry import derive
 from .model import Finding, FitResult, Options, PlugSpec, PortSpec
 
-# 2.0.0: the result's geometry names the two sides of the port (protrusion_short_side,
-# protrusion_long_side, replacing thread_protrusion and thread_recess), REACH_LONG and
-# REACH_SHORT can fail, and the piston margin counts the shell edge of an inclined plug
-# (1.1.0: the torque, strength and spark figures of issue 13).
+# 2.2.0: the seat's diameters (GASKET_OVERHANG, HEX_TRAPPED, SEAT_ANGLE_MISMATCH, TAPER_DIAMETER)
+# and thread-repair inserts (INSERT_FITTED, INSERT_PROUD, INSERT_SHORT, the strength's governing
+# interface), and the cautions for aluminium heads and inserts (issue 18).
 # 2.1.0: the piston margin takes off a running allowance estimated from the head's max_rpm
 # and rod (running.py) when no dynamic_allowance is given; analysis.piston says how it was
 # found (dynamic_allowance, dynamic_allowance_method and the inputs); the valve margin keeps
 # dynamic_allowance alone.
-ENGINE_VERSION = "2.1.0"
+# 2.0.0: the result's geometry names the two sides of the port (protrusion_short_side,
+# protrusion_long_side, replacing thread_protrusion and thread_recess), REACH_LONG and
+# REACH_SHORT can fail, and the piston margin counts the shell edge of an inclined plug
+# (1.1.0: the torque, strength and spark figures of issue 13).
+ENGINE_VERSION = "2.2.0"
 
 _SEVERITY_RANK = {"info": 0, "warn": 1, "fail": 2}
 _VERDICTS = ("pass", "warn", "fail")

@@ -16,6 +16,10 @@ towards the chamber), built as tolerance stacks before any check runs.
     piston_margin     = the smaller of the two, bound by bound
     valve_margin      = O_valve - t - a_valve   (the tip only; a_valve: dynamic_allowance alone)
 
+    with a thread insert of length L (from the seat face to its chamber end):
+    insert_protrusion_short_side = L - D        INSERT_SHORT reads its low bound
+    insert_protrusion_long_side  = L - D_long   INSERT_PROUD reads its high bound
+
 Each line below is one of these formulas, written with the stack operators
 (`stack.Stack`), so the code reads as the contract does.
 """
@@ -42,6 +46,11 @@ def derive(ctx: FitContext) -> None:
     plug, port, geometry = ctx.plug, ctx.port, ctx.geometry
     D = ctx.port_depth = port_depth(ctx)
     D_long = ctx.port_depth_long = port.port_depth_long_side or D
+    insert = port.insert
+    if insert is not None and insert.length is not None and D is not None and D_long is not None:
+        L = insert.length
+        geometry["insert_protrusion_short_side"] = (L - D).bounds()
+        geometry["insert_protrusion_long_side"] = (L - D_long).bounds()
     if not ctx.installable:
         ctx.assume(_NOT_INSTALLABLE_NOTE)
         return

@@ -80,6 +80,28 @@ class PlugSpec:
     terminal_height: Dim | None = None
     heat_range: HeatRange | None = None
     gap: float | None = None
+    # The seat's diameters and angle (issue 18): a flat seat's gasket outside diameter; a
+    # conical seat's included taper angle (degrees) and its largest diameter.
+    gasket_outside_diameter: float | None = None
+    seat_angle_deg: float | None = None
+    seat_diameter: float | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class Insert:
+    """A thread-repair insert in the port: `kind` one of INSERT_KINDS; `length` from the
+    head's seat face to the insert's chamber end; `outer_thread` the designation of a solid
+    insert's outer thread (a coil insert's follows its tap, `insert.coil_outer_thread`);
+    `material` one of INSERT_MATERIALS (None: not given)."""
+
+    kind: str
+    length: Dim | None = None
+    outer_thread: str | None = None
+    material: str | None = None
+
+
+INSERT_KINDS = ("coil", "solid")
+INSERT_MATERIALS = ("stainless_steel", "carbon_steel")
 
 
 @dataclass(frozen=True, slots=True)
@@ -121,6 +143,13 @@ class PortSpec:
     rod_material: str | None = None
     reciprocating_mass_g: float | None = None
     rod_section_area_mm2: float | None = None
+    # The seat's machining (issue 18): the spot face a flat seat's gasket bears on (on a
+    # conical port: the taper's mouth at the seat face), a counterbore around the plug's
+    # hex, and a conical seat's included taper angle (degrees).
+    spot_face_diameter: float | None = None
+    counterbore_diameter: float | None = None
+    seat_angle_deg: float | None = None
+    insert: Insert | None = None
 
 
 @dataclass(frozen=True, slots=True)

@@ -29,9 +29,17 @@ inside the RSS one.
   (outside it REACH_LONG or REACH_SHORT is certain), it has a gasket when its seat is
   flat (else GASKET_MISSING), and it has a resistor when the head requires one.
 - Tool clearance fails for a catalogue hex whose socket does not pass the well bore.
+- Seat diameters (`seat.py`, the rules the engine's `check_seat_diameter` applies): a
+  catalogue hex trapped in the head's counterbore fails (an unlisted hex is left to the
+  engine); a conical seat whose own angle differs from the head's fails, and with the
+  usual angle taken for a plug that gives none it warns; a gasket overhanging the spot
+  face and a taper mouth the plug's taper does not cover warn.
+- A thread insert standing proud of the port fails every plug, or makes every plug warn
+  (and so does one stopping short): the head's bounds run the engine's `check_insert`
+  itself, since it reads nothing of the plug.
 
-Failures come only from THREAD/SEAT (left out by the query), REACH, PISTON, VALVE and
-TOOL CLEARANCE: the deeper checks only warn, and the counter offers no `require` option.
+Failures come only from THREAD/SEAT (left out by the query), REACH, PISTON, VALVE,
+TOOL CLEARANCE, the seat diameters (HEX_TRAPPED, SEAT_ANGLE_MISMATCH) and INSERT_PROUD: the deeper checks only warn, and the counter offers no `require` option.
 So a design certain to warn and certain not to fail is counted and ranked without the
 engine, and checked only if it lands on the requested page; every plug that is listed
 has been checked by the engine. Ranking: closest to the chamber first (the nominal
@@ -56,6 +64,12 @@ choice, with its grade):
 - hex: any; another family is noted (`hex_differs`), as HEX_DIFFERS does;
 - resistor: a resistor plug is only replaced by a resistor plug (one whose resistor is
   unknown does not count as one); a non-resistor plug may be replaced by either.
+- seat (issue 18, where both plugs give the value): a conical seat only by one of the
+  same taper angle (`seat.angles_differ`), a flat seat's gasket only by one no wider
+  (a wider one may overhang a spot face the original's cleared), a conical seat's taper
+  only by one no narrower (a narrower one may leave a taper mouth bare). Where either
+  plug leaves the value out, nothing is decided by it: the fit check against the head
+  says `NOT_CHECKED` for it.
 
 Nominal values are compared: the tolerances of the two plugs are the makers' and apply
 to both. Heat range (only on the same named scale) and terminal top are reported as
@@ -66,10 +80,12 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from .catalog import Catalog
+from .checks import check_insert
 from .context import FitContext
-from .defaults import CAUTIONS, FLUSH_TOLERANCE_MM
+from .defaults import CAUTIONS, CONICAL_SEAT_ANGLE_DEG, FLUSH_TOLERANCE_MM
 from .geometry import derive, obstacle_distance, shell_edge_offset
 from .model import FitResult, HeatRange, Options, PlugSpec, PortSpec
+from .seat import across_corners, angles_differ, gasket_overhangs, hex_trapped, taper_mouth_bare
 
 # Slack on every comparison of the bounds, in mm: far above float rounding (1e-12 mm),
 # far below anything a gauge reads (1 µm), so a plug exactly on a limit is left to the
@@ -119,6 +135,16 @@ class FitBounds:
     passing_hexes: tuple[float, ...]
     hex_checked: bool                 # the head gives a well bore
     resistor_required: bool
+    # The seat's machining (None: not given) and the catalogue hexes trapped in, or turning
+    # freely in, the counterbore.
+    spot_face: float | None = None
+    seat_angle: float | None = None
+    trapped_hexes: tuple[float, ...] = ()
+    turning_hexes: tuple[float, ...] = ()
+    counterbore_checked: bool = False
+    # The insert's findings, the same for every plug: the worst severity (0 none or info,
+    # 1 warn, 2 fail).
+    insert_severity: int = 0
 
 
 def fit_bounds(port: PortSpec, options: Options, catalog: Catalog) -> FitBounds:
@@ -167,9 +193,23 @@ def fit_bounds(port: PortSpec, options: Options, catalog: Catalog) -> FitBounds:
     if port.well_bore is not None:
         for size_of_hex in catalog.hexes:
             (failing if size_of_hex.socket_od_mm > port.well_bore else passing).append(size_of_hex.across_flats_mm)
+    trapped: list[float] = []
+    turning: list[float] = []
+    if port.counterbore_diameter is not None:
+        for size_of_hex in catalog.hexes:
+            corners = across_corners(size_of_hex.across_flats_mm, size_of_hex.form)
+            (trapped if hex_trapped(corners, port.counterbore_diameter) else turning).append(
+                size_of_hex.across_flats_mm)
+    # The insert check reads only the head: its findings here are every plug's.
+    insert_ctx = FitContext(ctx.plug, port, options, catalog)
+    derive(insert_ctx)
+    check_insert(insert_ctx)
     return FitBounds(conical, standard, depth, depth_long, window, fail_outside, safe_within, tip_fail_above,
                      tip_safe_upto, edge_fail_above, edge_safe_upto, piston_low, edge, tuple(failing),
-                     tuple(passing), port.well_bore is not None, bool(port.resistor_required))
+                     tuple(passing), port.well_bore is not None, bool(port.resistor_required),
+                     spot_face=port.spot_face_diameter, seat_angle=port.seat_angle_deg if conical else None,
+                     trapped_hexes=tuple(trapped), turning_hexes=tuple(turning),
+                     counterbore_checked=port.counterbore_diameter is not None, insert_severity=insert_ctx.worst)
 
 
 # --- fitting plugs: the rule on one plug ------------------------------------------------
@@ -264,7 +304,38 @@ def classify_position(at: PlugPosition, hex_mm: float | None, resistor: bool | N
 
 def classify(plug: PlugSpec, bounds: FitBounds) -> Classification:
     """What the head's bounds alone say about one plug of its thread and seat."""
-    return classify_position(plug_position(plug, bounds), plug.hex, plug.resistor, bounds)
+    rule = classify_position(plug_position(plug, bounds), plug.hex, plug.resistor, bounds)
+    seat_fails, seat_warns, seat_safe = _seat_rules(plug, bounds)
+    insert = bounds.insert_severity
+    return Classification(rule.may_pass and not seat_warns and not seat_fails and insert == 0,
+                          rule.certain_fail or seat_fails or insert == 2,
+                          rule.certain_no_fail and seat_safe and insert < 2)
+
+
+def _seat_rules(plug: PlugSpec, bounds: FitBounds) -> tuple[bool, bool, bool]:
+    """(certain to fail, certain to warn, certain not to fail) on the seat's diameters, by
+    the engine's rules (`seat.py`; `checks.check_seat_diameter`)."""
+    fails = warns = False
+    safe = True
+    hex_mm = plug.hex
+    if bounds.counterbore_checked and hex_mm is not None:
+        fails = hex_mm in bounds.trapped_hexes
+        safe = hex_mm in bounds.turning_hexes
+    if bounds.conical:
+        if bounds.seat_angle is not None:
+            given = plug.seat_angle_deg is not None
+            angle = plug.seat_angle_deg if plug.seat_angle_deg is not None else CONICAL_SEAT_ANGLE_DEG.value
+            if angles_differ(angle, bounds.seat_angle):
+                warns = True
+                if given:
+                    fails, safe = True, False
+        if bounds.spot_face is not None and plug.seat_diameter is not None:
+            warns = warns or taper_mouth_bare(bounds.spot_face, plug.seat_diameter)
+    elif bounds.spot_face is not None and plug.gasket_outside_diameter is not None:
+        gasket = plug.gasket_thickness
+        if gasket is None or gasket.nominal > 1e-9:
+            warns = warns or gasket_overhangs(plug.gasket_outside_diameter, bounds.spot_face)
+    return fails, warns, safe
 
 
 # --- fitting plugs: ranking -------------------------------------------------------------
@@ -403,6 +474,18 @@ def heat_range_difference(original: HeatRange | None, candidate: HeatRange | Non
     return candidate.value - original.value
 
 
+def _same_seat_fit(original: PlugSpec, candidate: PlugSpec) -> bool:
+    """The candidate's seat meets every head the original's meets, as far as both say."""
+    if original.seat_angle_deg is not None and candidate.seat_angle_deg is not None \
+            and angles_differ(candidate.seat_angle_deg, original.seat_angle_deg):
+        return False
+    if original.gasket_outside_diameter is not None and candidate.gasket_outside_diameter is not None \
+            and gasket_overhangs(candidate.gasket_outside_diameter, original.gasket_outside_diameter):
+        return False
+    return not (original.seat_diameter is not None and candidate.seat_diameter is not None
+                and taper_mouth_bare(original.seat_diameter, candidate.seat_diameter))
+
+
 def compare(original: PlugSpec, candidate: PlugSpec, catalog: Catalog,
             tolerances: Tolerances = Tolerances(),
             original_position: Position | None = None) -> Comparison | None:
@@ -410,6 +493,8 @@ def compare(original: PlugSpec, candidate: PlugSpec, catalog: Catalog,
     if candidate.thread != original.thread or candidate.seat != original.seat:
         return None
     if original.resistor is True and candidate.resistor is not True:
+        return None
+    if not _same_seat_fit(original, candidate):
         return None
     here = original_position or position(original, catalog)
     there = position(candidate, catalog)

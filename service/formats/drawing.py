@@ -23,7 +23,9 @@ from xml.sax.saxutils import escape, quoteattr
 from service.fitment.catalog import Catalog
 from service.fitment.context import FitContext
 from service.fitment.defaults import CAUTIONS
+from service.fitment.designation import parse_designation
 from service.fitment.geometry import SHELL_EDGE, TIP, derive, obstacle_distance
+from service.fitment.insert import coil_outer_thread
 from service.fitment.model import Finding, FitResult, Options, PlugSpec, PortSpec
 from service.fitment.stack import Bounds, Stack
 from service.formats.result_json import result_document
@@ -46,6 +48,7 @@ CHECK_ANCHORS = {
     "thread": "thread", "seat": "seat_face", "reach": "thread_end", "piston": "piston_crown",
     "valve": "valve", "tool_clearance": "hex", "hex": "hex", "resistor": "hex", "torque": "hex",
     "thread_strength": "thread", "gap_voltage": "tip", "heat_range": "tip", "boot": "hex",
+    "seat_diameter": "seat_face", "insert": "insert_end",
 }
 
 WIDTH_PX = 920
@@ -203,12 +206,17 @@ def render_fit_svg(plug: PlugSpec, port: PortSpec, result: FitResult, units: str
     _draw_piston(svg, layout, frame, _piston_allowance(result))  # first: where a leaning crown runs under the
     # head, the head hides it
     _draw_head(svg, port, layout, frame)
+    _draw_insert(svg, port, frame, units)
+    _draw_seat_machining(svg, port, frame, units)
     _draw_valve(svg, layout, frame)
     _draw_gasket(svg, plug, standoff, frame)
     _plug_section(svg, plug, layout, frame, hex_half, standoff)
     _draw_governing_point(svg, result, layout, frame)
     _draw_dimensions(svg, _dimensions(result, layout, frame, units), frame)
-    _draw_markers(svg, findings, _anchors(layout, standoff), frame)
+    anchors = _anchors(layout, standoff)
+    if port.insert is not None and port.insert.length is not None:
+        anchors["insert_end"] = port.insert.length.nominal
+    _draw_markers(svg, findings, anchors, frame)
     _draw_scale_bar(svg, frame, units)
     _draw_legend(svg, legend_rows, frame, height)
     svg.raw("</svg>")
@@ -226,6 +234,8 @@ def _frame(plug: PlugSpec, port: PortSpec, layout: AxialLayout) -> _Frame:
                          layout.valve) if v is not None]
     if layout.piston is not None:
         known.append(layout.piston + half_width * tilt)  # the crown's lowest drawn point
+    if port.insert is not None and port.insert.length is not None:
+        known.append(port.insert.length.nominal)
     top_mm = -(standoff + STUB_MM)
     bottom_mm = max(known + [12.0]) + 5.0
     scale = min(MAX_DRAWING_HEIGHT_PX / (bottom_mm - top_mm), MAX_HALF_WIDTH_PX / half_width)
@@ -300,6 +310,51 @@ def _piston_allowance(result: FitResult) -> float:
     option, or the running allowance estimated from the head's max_rpm), mm; 0 without one."""
     allowance = (result.analysis.get("piston") or {}).get("dynamic_allowance")
     return allowance[0] if isinstance(allowance, tuple) else 0.0
+
+
+def _draw_insert(svg: _Svg, port: PortSpec, frame: _Frame, units: str) -> None:
+    """A thread-repair insert: a sleeve in the bore from the seat face to its length (drawn
+    past the chamber surface when it stands proud), as wide as its outer thread."""
+    insert = port.insert
+    if insert is None or insert.length is None:
+        return
+    x, y, radius = frame.x, frame.y, frame.radius
+    length = insert.length.nominal
+    size = parse_designation(port.thread)
+    if insert.kind == "coil" and size is not None and size[1] is not None:
+        outer = coil_outer_thread(size[0], size[1])[0] / 2.0
+    else:
+        outer_size = parse_designation(insert.outer_thread) if insert.outer_thread else None
+        outer = outer_size[0] / 2.0 if outer_size is not None else radius + 1.5
+    for side in (-1, 1):
+        left, right = sorted((side * radius, side * outer))
+        svg.element("rect", x=f"{x(left):.2f}", y=f"{y(0.0):.2f}", width=f"{(right - left) * frame.scale:.2f}",
+                    height=f"{length * frame.scale:.2f}", fill="#c9d6df", stroke="#2f4858", stroke_width=1.0,
+                    data_part="insert", data_axial_mm=f"{length:.6f}")
+    kind = "coil" if insert.kind == "coil" else "solid"
+    _label(svg, f"thread insert ({kind}), {_format_length(length, units)}", x(outer) + 4, y(length) + 12, size=10.0)
+
+
+def _draw_seat_machining(svg: _Svg, port: PortSpec, frame: _Frame, units: str) -> None:
+    """The spot face's diameter as ticks on the seat face, and a counterbore around the hex
+    as a dashed outline above it (its depth is not an input: drawn schematic)."""
+    x, y = frame.x, frame.y
+    if port.spot_face_diameter is not None:
+        half = port.spot_face_diameter / 2.0
+        for side in (-1, 1):
+            svg.element("line", x1=f"{x(side * half):.2f}", y1=f"{y(0.0) - 6:.2f}", x2=f"{x(side * half):.2f}",
+                        y2=f"{y(0.0) + 6:.2f}", stroke="#2f4858", stroke_width=1.4, data_feature="spot_face")
+        _label(svg, f"spot face, diameter {_format_length(port.spot_face_diameter, units)}", x(half) + 6, y(0.0) + 14,
+               size=10.0)
+    if port.counterbore_diameter is not None:
+        half = port.counterbore_diameter / 2.0
+        top = -STUB_MM
+        svg.element("path", d=(f"M{x(-half):.2f},{y(top):.2f} L{x(-half):.2f},{y(0.0):.2f} "
+                               f"M{x(half):.2f},{y(top):.2f} L{x(half):.2f},{y(0.0):.2f}"),
+                    fill="none", stroke="#2f4858", stroke_width=1.2, stroke_dasharray="6 3",
+                    data_feature="counterbore")
+        _label(svg, f"counterbore, diameter {_format_length(port.counterbore_diameter, units)}", x(half) + 6,
+               y(top / 2.0), size=10.0)
 
 
 def _draw_piston(svg: _Svg, layout: AxialLayout, frame: _Frame, allowance: float = 0.0) -> None:
@@ -648,7 +703,7 @@ def _dimensions(result: FitResult, layout: AxialLayout, frame: _Frame,
 
 def _caution_rows(result: FitResult) -> list[tuple[str, str, str, list[str]]]:
     """The result's own cautions beyond the general one the drawing ends with (the running
-    allowance's, anti-seize's), as legend rows."""
+    allowance's, anti-seize's, an aluminium head's, an insert's), as legend rows."""
     return [("", "", "Caution", textwrap.wrap(text, LEGEND_WRAP_CHARS))
             for text in result.cautions if text not in CAUTIONS]
 

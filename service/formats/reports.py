@@ -267,7 +267,9 @@ def _torque_guidance(torque: dict[str, Any]) -> str:
 
 
 _GEOMETRY_LABELS = {"protrusion_short_side": "protrusion, short side", "protrusion_long_side": "protrusion, long side",
-                    "tip_position": "tip position", "piston_margin": "piston margin", "valve_margin": "valve margin"}
+                    "tip_position": "tip position", "piston_margin": "piston margin", "valve_margin": "valve margin",
+                    "insert_protrusion_short_side": "insert end, short side",
+                    "insert_protrusion_long_side": "insert end, long side"}
 
 
 _ALLOWANCE_WORDS = {"rod_stretch": "the running allowance estimated from the rod's stretch and bearing clearances",

@@ -74,6 +74,9 @@ class Plug(Timestamped, Base):
     heat_range_scale: Mapped[str | None] = mapped_column(String(32))
     heat_range_value: Mapped[float | None] = mapped_column(Float)
     gap_mm: Mapped[float | None] = _length()
+    gasket_outside_diameter_mm: Mapped[float | None] = _length()  # migration 0008
+    seat_angle_deg: Mapped[float | None] = mapped_column(Float)  # migration 0008
+    seat_diameter_mm: Mapped[float | None] = _length()  # migration 0008
     quantity_on_hand: Mapped[int] = mapped_column(Integer, nullable=False, default=0, server_default="0")
     location: Mapped[str | None] = mapped_column(String(100))
     # Bumped on every UPDATE (SQLAlchemy checks it, so two writers cannot both win);
@@ -85,14 +88,15 @@ class Plug(Timestamped, Base):
         # The fitting-plugs search narrows 100,000 plugs by thread and seat first.
         Index("ix_plugs_thread_seat", "thread", "seat"),
         # The parts counter groups candidates by design from this index alone
-        # (migration 0002; service/usecases/parts_search.py's ENGINE_COLUMNS, then sku and stock).
+        # (migration 0002, widened by 0008; repository.DESIGN_COLUMNS, then sku and stock).
         Index("ix_plugs_counter", "thread", "seat",
               "reach_nominal_mm", "reach_plus_mm", "reach_minus_mm",
               "gasket_thickness_nominal_mm", "gasket_thickness_plus_mm", "gasket_thickness_minus_mm",
               "firing_end_nominal_mm", "firing_end_plus_mm", "firing_end_minus_mm",
               "hex_mm", "resistor",
               "terminal_height_nominal_mm", "terminal_height_plus_mm", "terminal_height_minus_mm",
-              "heat_range_scale", "heat_range_value", "gap_mm", "sku", "quantity_on_hand"),
+              "heat_range_scale", "heat_range_value", "gap_mm",
+              "gasket_outside_diameter_mm", "seat_angle_deg", "seat_diameter_mm", "sku", "quantity_on_hand"),
     )
 
 
@@ -160,6 +164,16 @@ class Head(Timestamped, Base):
     rod_material: Mapped[str | None] = mapped_column(String(16))
     reciprocating_mass_g: Mapped[float | None] = mapped_column(Float)
     rod_section_area_mm2: Mapped[float | None] = mapped_column(Float)
+    # The seat's machining and a thread-repair insert (migration 0008).
+    spot_face_diameter_mm: Mapped[float | None] = _length()
+    counterbore_diameter_mm: Mapped[float | None] = _length()
+    seat_angle_deg: Mapped[float | None] = mapped_column(Float)
+    insert_kind: Mapped[str | None] = mapped_column(String(16))
+    insert_length_nominal_mm: Mapped[float | None] = _length()
+    insert_length_plus_mm: Mapped[float | None] = _length()
+    insert_length_minus_mm: Mapped[float | None] = _length()
+    insert_outer_thread: Mapped[str | None] = mapped_column(String(32))
+    insert_material: Mapped[str | None] = mapped_column(String(32))
     version: Mapped[int] = mapped_column(Integer, nullable=False, default=1, server_default="1")
 
     __mapper_args__: ClassVar[dict[str, Any]] = {"version_id_col": version}

@@ -128,7 +128,8 @@ PLUGS: RecordMapping[Plug] = RecordMapping(
     scalars=(("sku", "sku"), ("description", "description"), ("thread", "thread"),
              ("nonstandard_thread", "nonstandard_thread"), ("seat", "seat"), ("hex", "hex_mm"),
              ("resistor", "resistor"), ("gap", "gap_mm"), ("quantity_on_hand", "quantity_on_hand"),
-             ("location", "location")),
+             ("location", "location"), ("gasket_outside_diameter", "gasket_outside_diameter_mm"),
+             ("seat_angle", "seat_angle_deg"), ("seat_diameter", "seat_diameter_mm")),
     nested=(Nested("heat_range", (("scale", "heat_range_scale", False), ("value", "heat_range_value", False)),
                    required=("scale", "value")),),
 )
@@ -147,12 +148,17 @@ HEADS: RecordMapping[Head] = RecordMapping(
              ("ignition_voltage", "ignition_voltage_kv"), ("bore", "bore_mm"), ("stroke", "stroke_mm"),
              ("rod_length", "rod_length_mm"), ("spark_advance", "spark_advance_deg"),
              ("plug_inclination", "plug_inclination_deg"), ("max_rpm", "max_rpm"), ("rod_material", "rod_material"),
-             ("reciprocating_mass", "reciprocating_mass_g"), ("rod_section_area", "rod_section_area_mm2")),
+             ("reciprocating_mass", "reciprocating_mass_g"), ("rod_section_area", "rod_section_area_mm2"),
+             ("spot_face_diameter", "spot_face_diameter_mm"), ("counterbore_diameter", "counterbore_diameter_mm"),
+             ("seat_angle", "seat_angle_deg")),
     nested=(
         Nested("heat_range_band", (("scale", "heat_range_band_scale", False), ("min", "heat_range_band_min", False),
                                    ("max", "heat_range_band_max", False)), required=("scale", "min", "max")),
         Nested("boot_range", (("min", "boot_range_min", True), ("max", "boot_range_max", True)),
                required=("min", "max")),
+        Nested("insert", (("kind", "insert_kind", False), ("length", "insert_length", True),
+                          ("outer_thread", "insert_outer_thread", False), ("material", "insert_material", False)),
+               required=("kind",)),
     ),
 )
 
@@ -324,6 +330,7 @@ DESIGN_COLUMNS = (
     Plug.hex_mm, Plug.resistor,
     Plug.terminal_height_nominal_mm, Plug.terminal_height_plus_mm, Plug.terminal_height_minus_mm,
     Plug.heat_range_scale, Plug.heat_range_value, Plug.gap_mm,
+    Plug.gasket_outside_diameter_mm, Plug.seat_angle_deg, Plug.seat_diameter_mm,
 )
 _DESIGN_COLUMN_NAMES = tuple(column.key for column in DESIGN_COLUMNS)
 
@@ -338,11 +345,12 @@ def design_spec(design: Design) -> PlugSpec:
     """The engine's record for a design (read as `PLUGS.document_of` and
     `schemas.specs.plug_spec` would read one of its rows)."""
     (thread, seat, rn, rp, rm, gn, gp, gm, fn, fp, fm, hex_mm, resistor, tn, tp, tm,
-     heat_scale, heat_value, gap) = design
+     heat_scale, heat_value, gap, gasket_outside, seat_angle, seat_diameter) = design
     heat = HeatRange(heat_scale, heat_value) if heat_scale is not None and heat_value is not None else None
     return PlugSpec(thread, seat, reach=_design_dim(rn, rp, rm), gasket_thickness=_design_dim(gn, gp, gm),
                     firing_end=_design_dim(fn, fp, fm), hex=hex_mm, resistor=resistor,
-                    terminal_height=_design_dim(tn, tp, tm), heat_range=heat, gap=gap)
+                    terminal_height=_design_dim(tn, tp, tm), heat_range=heat, gap=gap,
+                    gasket_outside_diameter=gasket_outside, seat_angle_deg=seat_angle, seat_diameter=seat_diameter)
 
 
 def plug_designs(session: Session, thread: str, seat: str, *, in_stock: bool = False,

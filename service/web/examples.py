@@ -78,7 +78,7 @@ FIT_RESULT = {
                      "so the shell's edge is no nearer the crown than its axis")],
     "cautions": [("Torque, clearance and gap values are guidance: the engine maker's service data, "
                  "local regulations and licensed practice come first.")],
-    "engine_version": "2.1.0",
+    "engine_version": "2.2.0",
     "catalog_version": "fbcb0fa264fd",
 }
 

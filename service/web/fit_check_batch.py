@@ -58,7 +58,7 @@ EXAMPLE_RESPONSE = {
          "analysis": {}, "torque": None, "assumptions": [], "cautions": [
              ("Torque, clearance and gap values are guidance: the engine maker's service data, local "
              "regulations and licensed practice come first.")],
-         "engine_version": "2.1.0", "catalog_version": "0123456789ab", "waivers": []},
+         "engine_version": "2.2.0", "catalog_version": "0123456789ab", "waivers": []},
         {"ref": "demo-twin-rear", "verdict": "invalid", "errors": {"plug": {"sku": [("no plug with sku "
                                                                                     "'EXAMPLE-P-0001'")]}}},
     ],

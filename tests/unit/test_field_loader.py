@@ -40,6 +40,10 @@ VALUES: tuple[Any, ...] = (
     {"value": 19, "plus": 0.1, "minus": 0.2}, {"value": 19, "unit": 5}, {"unit": "mm"},
     {"scale": "shop-scale", "value": 0.5}, {"scale": "shop-scale", "min": 0.3, "max": 0.6},
     {"scale": "shop-scale", "min": 0.6, "max": 0.3}, {"min": 20, "max": 40}, {"nested": {"deep": 1}},
+    # a thread-repair insert (issue 18): right, refused by the port's rules, refused by its own schema
+    {"kind": "coil", "length": 12}, {"kind": "solid", "length": "0.5 in", "outer_thread": "M16x1.5"},
+    {"kind": "coil", "outer_thread": "M16x1.5"}, {"kind": "solid", "outer_thread": "M12x1.25"}, {"length": 12},
+    63, "60 deg", "24 mm",
 )
 
 
