@@ -14,6 +14,7 @@ from __future__ import annotations
 import getpass
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
+from datetime import datetime
 from functools import cache
 from typing import Any
 
@@ -75,13 +76,20 @@ def current_source() -> str:
     return API if has_request_context() else CLI
 
 
-def _row(kind: str, change: Change, actor: str, source: str, when) -> dict[str, Any]:
+def entry(kind: str, identifier: str, before: dict[str, Any] | None, after: dict[str, Any] | None, actor: str,
+          source: str, when: datetime, version_before: int | None = None,
+          version_after: int | None = None) -> dict[str, Any]:
+    """One history row, `before` and `after` already as the API shows them (`as_shown`)."""
     return {
-        "resource": kind, "identifier": change.identifier, "action": action_of(change.before, change.after),
+        "resource": kind, "identifier": identifier, "action": action_of(before, after),
         "actor": actor[:ACTOR_LENGTH], "source": source, "changed_at": when,
-        "version_before": change.version_before, "version_after": change.version_after,
-        "before": as_shown(kind, change.before), "after": as_shown(kind, change.after),
+        "version_before": version_before, "version_after": version_after, "before": before, "after": after,
     }
+
+
+def _row(kind: str, change: Change, actor: str, source: str, when: datetime) -> dict[str, Any]:
+    return entry(kind, change.identifier, as_shown(kind, change.before), as_shown(kind, change.after), actor,
+                 source, when, change.version_before, change.version_after)
 
 
 def record_change(session: Session, kind: str, key: str, before: Mapping[str, Any] | None,
@@ -93,19 +101,24 @@ def record_change(session: Session, kind: str, key: str, before: Mapping[str, An
     session.add(ChangeRecord(**_row(kind, change, actor or current_actor(), source or current_source(), utc_now())))
 
 
+def insert_entries(session: Session, entries: Sequence[dict[str, Any]]) -> None:
+    """Add many `entry` rows with one bulk statement (an import)."""
+    session.execute(insert(ChangeRecord.__table__), list(entries))
+
+
 def record_changes(session: Session, kind: str, changes: Iterable[Change], actor: str | None = None,
                    source: str = IMPORT, chunk: int = 1000) -> int:
-    """Add entries for many changes (an import) with bulk inserts; returns how many."""
+    """Add entries for many changes with bulk inserts; returns how many."""
     actor, when = actor or current_actor(), utc_now()
     written = 0
     batch: list[dict[str, Any]] = []
     for change in changes:
         batch.append(_row(kind, change, actor, source, when))
         if len(batch) >= chunk:
-            session.execute(insert(ChangeRecord), batch)
+            insert_entries(session, batch)
             written, batch = written + len(batch), []
     if batch:
-        session.execute(insert(ChangeRecord), batch)
+        insert_entries(session, batch)
         written += len(batch)
     return written
 

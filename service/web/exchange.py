@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from flask import Response, request
+from flask import Response, current_app, request
 from flask.views import MethodView
 
 from schemas.exchange import ImportQuerySchema, ImportReportSchema
@@ -65,19 +65,30 @@ def _import(resource: str, query: dict[str, Any]) -> dict[str, Any]:
         problems.abort(415, f"The file was sent as {media_type or 'no content type'}; send it as "
                             "'Content-Type: text/csv' or 'Content-Type: application/x-ndjson' (JSON lines).")
     fmt = stock_file.format_for(resource)
-    try:
-        validated = stock_file.parse(request.get_data(cache=False), media_type, fmt)
-    except stock_file.FileUnusable as unusable:
-        problems.abort(422, str(unusable), errors=unusable.errors, slug="file-unusable")
-    if not validated.ok:
-        listed = len(validated.errors)
-        more = (f" The first {listed} are listed." if listed < validated.bad_rows else "")
-        problems.abort(422, f"{validated.bad_rows} row(s) cannot be imported, so nothing was written; "
-                            f"errors are keyed by line number, then column.{more}",
-                       errors=validated.errors)
+    data = request.get_data(cache=False)
+    cap = current_app.config["MAX_IMPORT_ROWS"]
+    rows = stock_file.more_rows_than(data, media_type, cap)
+    if rows is not None:  # before any row is read: the refusal costs one pass over the bytes
+        problems.abort(413, f"The file holds {rows} rows; an import over HTTP holds at most {cap} "
+                            "(setting PLUGFIT_MAX_IMPORT_ROWS). Nothing was written. Import a larger file on the "
+                            f"server with `plugfit import {resource} FILE`, which takes any size, or send it "
+                            "in parts.", slug="too-many-rows", limit=cap)
+    reader = stock_file.RowReader(fmt)
     session = db.session()
-    report = stock.apply_import(session, resource, [document for _line, document in validated.documents],
-                                  query["mode"])
+    try:
+        outcome = stock.import_rows(session, resource, stock_file.rows_of(data, media_type, reader),
+                                    query["mode"], keys=reader.first_line)
+    except stock_file.FileUnusable as unusable:
+        session.rollback()
+        problems.abort(422, str(unusable), errors=unusable.errors, slug="file-unusable")
+    if not outcome.ok:
+        session.rollback()
+        listed = len(outcome.errors)
+        more = (f" The first {listed} are listed." if listed < outcome.bad_rows else "")
+        problems.abort(422, f"{outcome.bad_rows} row(s) cannot be imported, so nothing was written; "
+                            f"errors are keyed by line number, then column.{more}",
+                       errors=outcome.errors)
+    report = outcome.report
     report.dry_run = query["dry_run"]
     if report.dry_run:
         session.rollback()
@@ -108,6 +119,7 @@ class PlugImport(MethodView):
     @blp.arguments(ImportQuerySchema, location="query")
     @blp.doc(requestBody=_request_body("plugs"))
     @blp.response(200, ImportReportSchema, example=EXAMPLE_REPORT)
+    @blp.alt_response(413, response="REQUEST_ENTITY_TOO_LARGE")
     @blp.alt_response(415, response="UNSUPPORTED_MEDIA_TYPE")
     def post(self, query):
         """Import plugs from CSV or JSON lines
@@ -131,6 +143,7 @@ class HeadImport(MethodView):
     @blp.arguments(ImportQuerySchema, location="query")
     @blp.doc(requestBody=_request_body("heads"))
     @blp.response(200, ImportReportSchema, example={**EXAMPLE_REPORT, "resource": "heads"})
+    @blp.alt_response(413, response="REQUEST_ENTITY_TOO_LARGE")
     @blp.alt_response(415, response="UNSUPPORTED_MEDIA_TYPE")
     def post(self, query):
         """Import heads from CSV or JSON lines
