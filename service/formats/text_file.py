@@ -34,15 +34,17 @@ if csv.field_size_limit() < MAX_CELL_CHARS:
 class NotText(ValueError):
     """The bytes are not UTF-8 text, or not CSV the reader can follow."""
 
-    def __init__(self, message: str, line: int, byte: int | None = None) -> None:
+    def __init__(self, message: str, line: int, byte: int | None = None, reason: str | None = None) -> None:
         super().__init__(message)
         self.line = line
         self.byte = byte
+        self.reason = reason or message  # without the line, for a reader that reports it apart
 
 
 def _not_utf8(error: UnicodeDecodeError, line: int, offset: int) -> NotText:
     byte = offset + error.start + 1
-    return NotText(f"not UTF-8 text (byte {byte}, line {line}); save the file as UTF-8", line, byte)
+    return NotText(f"not UTF-8 text (byte {byte}, line {line}); save the file as UTF-8", line, byte,
+                   reason=f"not UTF-8 text (byte {byte}); save the file as UTF-8")
 
 
 def decode(data: bytes) -> str:
@@ -89,6 +91,6 @@ def csv_rows(lines: Iterable[str] | str) -> Iterator[tuple[int, list[str]]]:
         except StopIteration:
             return
         except csv.Error as error:
-            raise NotText(f"cannot read the CSV on line {line}: {error}", line) from None
+            raise NotText(f"cannot read the CSV on line {line}: {error}", line, reason=str(error)) from None
         yield line, cells
         line = reader.line_num + 1
