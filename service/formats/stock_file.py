@@ -55,6 +55,8 @@ CSV_MEDIA_TYPE = "text/csv"
 JSON_LINES_MEDIA_TYPES = ("application/x-ndjson", "application/jsonl", "application/json-lines",
                           "application/x-jsonlines")
 COMMENT_PREFIX = "#"
+BYTE_ORDER_MARK_BYTES = b"\xef\xbb\xbf"
+_LINE_END = re.compile(rb"\r\n|\r|\n")
 
 # A file may be long; a problem document listing a hundred thousand bad rows would be
 # larger than the file. The first this-many bad rows are listed (the detail says so).
@@ -352,10 +354,10 @@ def _json_line(line: str) -> Any:
 def read_json_lines(text: str | Iterable[str]) -> Iterator[tuple[int, Any]]:
     """(line number, parsed value) for each non-blank line; a line that is not JSON
     yields a `_row` error marker that validation reports under its line."""
-    lines = text.split("\n") if isinstance(text, str) else text
+    lines = re.split(r"\r\n|\r|\n", text) if isinstance(text, str) else text
     for number, line in enumerate(lines, start=1):
         if line.strip():
-            yield number, _json_line(line)
+            yield number, _json_line(line.rstrip("\r\n"))
 
 
 def _load(schema: Schema, raw: Any, fmt: ExchangeFormat, csv_columns: bool) -> tuple[dict[str, Any] | None,
@@ -632,24 +634,61 @@ def rows_of(source: bytes | BinaryIO, media_type: str, reader: RowReader,
 
 
 def more_rows_than(data: bytes, media_type: str, limit: int) -> int | None:
-    """The number of data rows in `data` when it is above `limit`, else None; cheap for a
-    file within the limit (its line count says so), one quick pass for a longer one."""
-    lines = data.count(b"\n") + (0 if data.endswith(b"\n") else 1)
+    """The number of data rows in `data` when it is above `limit`, else None. Cheap: a
+    file within the limit says so by its count of line ends; a longer one is counted
+    line by line on the bytes (about 0.3 s for 32 MiB on a busy 2-core machine)."""
+    data = data.removeprefix(BYTE_ORDER_MARK_BYTES)
+    bare_returns = data.count(b"\r") - data.count(b"\r\n")  # a CR alone ends a line too
+    lines = data.count(b"\n") + bare_returns + (0 if data.endswith((b"\n", b"\r")) else 1)
     if lines - (0 if media_type in JSON_LINES_MEDIA_TYPES else 1) <= limit:
         return None
+    physical = _LINE_END.split(data) if bare_returns else data.split(b"\n")
     if media_type in JSON_LINES_MEDIA_TYPES:
-        rows = sum(1 for line in data.split(b"\n") if line.strip())
+        rows = sum(1 for line in physical if line.strip())
     else:
-        try:
-            rows, header = 0, False
-            for _line, cells in text_file.csv_rows(text_file.lines_of(data)):
-                if not "".join(cells).strip() or (not header and cells[0].lstrip().startswith(COMMENT_PREFIX)):
-                    continue
-                rows += header
-                header = True
-        except text_file.NotText:
-            return None  # the import itself says what is wrong with it
+        rows = _csv_rows_in(physical)
     return rows if rows > limit else None
+
+
+def _csv_rows_in(physical: list[bytes]) -> int:
+    """Data rows as `RowReader.csv` counts them: blank rows, comments before the header and
+    the header itself are not rows. Lines without a quote (nearly all of a stock file) are
+    judged on their bytes; a row with quotes, which may hold line breaks (an odd number of
+    `"` so far: RFC 4180 doubles a quote inside a cell), is read by the csv module."""
+    rows, header, pending = 0, False, None
+    comment = COMMENT_PREFIX.encode()
+    for line in physical:
+        if pending is None and b'"' not in line:
+            if not line.strip(b" \t\r,"):
+                continue
+            first = line
+        else:
+            if pending is not None:
+                pending.append(line)
+                if line.count(b'"') % 2 == 0:
+                    continue
+                cells, pending = _cells(pending), None
+            elif line.count(b'"') % 2:  # a quoted cell runs on to the next line
+                pending = [line]
+                continue
+            else:
+                cells = _cells([line])
+            if not any(cell.strip() for cell in cells):
+                continue
+            first = cells[0].encode()
+        if header:
+            rows += 1
+        elif not first.lstrip().startswith(comment):
+            header = True
+    return rows + (pending is not None and header)
+
+
+def _cells(lines: list[bytes]) -> list[str]:
+    text = [line.decode("utf-8", "replace") + "\n" for line in lines]
+    try:
+        return next(csv.reader(text, strict=True), [])
+    except csv.Error:
+        return ["unreadable"]  # a row all the same (the import says what is wrong with it)
 
 
 # --- writing -------------------------------------------------------------------------------

@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import csv
 import io
+import re
 from collections.abc import Callable, Iterable, Iterator
 from typing import BinaryIO
 
@@ -26,6 +27,7 @@ from typing import BinaryIO
 # that arrives over HTTP can reach the csv module's own limit.
 MAX_CELL_CHARS = 32 * 1024 * 1024
 BYTE_ORDER_MARK = "\ufeff"
+_AFTER_BARE_CR = re.compile(r"(?<=\r)(?!\n)")
 
 if csv.field_size_limit() < MAX_CELL_CHARS:
     csv.field_size_limit(MAX_CELL_CHARS)
@@ -65,7 +67,7 @@ def lines_of(source: bytes | BinaryIO, progress: Progress | None = None) -> Iter
     character never contains a newline byte, so each line decodes on its own."""
     stream = io.BytesIO(source) if isinstance(source, (bytes, bytearray)) else source
     offset = 0
-    for number, raw in enumerate(stream, start=1):
+    for number, raw in enumerate(stream, start=1):  # lines that end with \n
         try:
             line = raw.decode("utf-8")
         except UnicodeDecodeError as error:
@@ -75,7 +77,12 @@ def lines_of(source: bytes | BinaryIO, progress: Progress | None = None) -> Iter
         offset += len(raw)
         if progress is not None:
             progress(len(raw))
-        yield line
+        if "\r" in line and line.find("\r") != len(line) - 2:
+            # a carriage return alone ends a line too (old spreadsheets write them), as
+            # the csv module reads text
+            yield from (part for part in _AFTER_BARE_CR.split(line) if part)
+        else:
+            yield line
 
 
 def csv_rows(lines: Iterable[str] | str) -> Iterator[tuple[int, list[str]]]:

@@ -68,8 +68,9 @@ def csv_text(header: list[str], rows: list[list[str]], extra_cells: list[bool]) 
 
 
 def fast(text: str, fmt: stock_file.ExchangeFormat, json_lines: bool = False):
-    reader = stock_file.RowReader(fmt)
-    rows = reader.json_lines(text) if json_lines else reader.csv(text)
+    reader = stock_file.RowReader(fmt)  # as the endpoint reads a body: bytes, line by line
+    media_type = stock_file.JSON_LINES_MEDIA_TYPES[0] if json_lines else stock_file.CSV_MEDIA_TYPE
+    rows = stock_file.rows_of(text.encode(), media_type, reader)
     documents, errors = {}, {}
     for row in rows:
         if row.document is not None:
@@ -173,3 +174,28 @@ def test_the_mark_is_undone_exactly_on_import(cell):
     marked = stock_file.neutralise(cell)
     assert stock_file.unmark(marked) == cell
     assert not marked.startswith(stock_file.FORMULA_STARTS) or stock_file._PLAIN_NUMBER.fullmatch(marked)
+
+
+# --- the row cap's count (PLUGFIT_MAX_IMPORT_ROWS) ------------------------------------------
+
+@settings(max_examples=300, deadline=None)
+@given(comments=st.integers(0, 2), blank_before=st.booleans(),
+       rows=st.lists(st.lists(st.text(alphabet=st.sampled_from('ab,"\n\r #'), max_size=5), min_size=2, max_size=2)
+                     | st.just(None), max_size=12))
+def test_the_cap_counts_rows_as_the_reader_reads_them(comments, blank_before, rows):
+    out = io.StringIO()
+    out.write("# invented\n" * comments + ("\n" if blank_before else ""))
+    writer = csv.writer(out, lineterminator="\n")
+    writer.writerow(["sku", "description"])
+    for row in rows:
+        if row is None:
+            out.write("\n")  # a blank line
+        else:
+            writer.writerow(row)
+    text = out.getvalue()
+    data = ("\ufeff" + text).encode()
+    read = sum(1 for _ in stock_file.read_csv(text, PLUGS))
+    assert sum(1 for _ in stock_file.rows_of(data, stock_file.CSV_MEDIA_TYPE, stock_file.RowReader(PLUGS))) == read
+    assert stock_file.more_rows_than(data, "text/csv", read) is None
+    if read:
+        assert stock_file.more_rows_than(data, "text/csv", read - 1) == read
