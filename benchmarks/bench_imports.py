@@ -217,10 +217,11 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--http-rows", type=int, default=100_000)
     parser.add_argument("--cli-rows", type=int, nargs="*", default=[100_000, 1_000_000])
     parser.add_argument("--designs", type=int, default=5000)
+    parser.add_argument("--skip-sqlite", action="store_true", help="with --postgres: PostgreSQL only")
     arguments = parser.parse_args(argv)
     workdir = Path(tempfile.mkdtemp(prefix="plugfit-bench-imports-"))
     try:
-        ok = run(None, arguments, workdir)
+        ok = True if arguments.skip_sqlite and arguments.postgres else run(None, arguments, workdir)
         if arguments.postgres:
             ok &= run(arguments.postgres, arguments, workdir)
     finally:

@@ -294,3 +294,27 @@ def test_spreadsheet_formulas_are_exported_marked_and_imported_back_unmarked(app
     assert client.get("/v1/exports/plugs").data == exported
     assert [client.get(f"/v1/plugs/F-{n}").get_json()["description"] for n in range(len(descriptions))] == \
         descriptions
+
+
+def test_bytes_that_are_not_utf8_after_chunks_were_written_leave_nothing_behind(app, client, auth, monkeypatch):
+    monkeypatch.setattr(stock, "CHUNK", 10)
+    body = (HEADER + plug_lines(35)).encode() + b"S-99999,M14x1.25,flat,19,,,16,1,\xff\n"
+    response = post(client, auth, body)
+    assert response.status_code == 422
+    problem = response.get_json()
+    assert problem["type"].endswith("/file-unusable")
+    assert list(problem["errors"]) == ["37"]
+    assert "not UTF-8" in problem["errors"]["37"]["_row"][0]
+    assert stored(app) == [] and history_rows(app) == []
+
+
+def test_the_streaming_reader_reads_the_file_as_it_goes(tmp_path):
+    """A row is handed on before the rest of the file is read: memory stays flat."""
+    path = tmp_path / "stock.csv"
+    path.write_text(HEADER + plug_lines(10_000))
+    with path.open("rb") as stream:
+        rows = stock_file.rows_of(stream, stock_file.CSV_MEDIA_TYPE, stock_file.RowReader(PLUGS))
+        first = next(rows)
+        assert first.document["sku"] == "S-00000"
+        assert stream.tell() < path.stat().st_size / 10
+        assert sum(1 for _ in rows) == 9_999
