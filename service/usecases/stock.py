@@ -110,6 +110,7 @@ class _Writer:
                      "version": self.table.c.version + 1, "updated_at": bindparam("_now")}))
         dialect = session.get_bind().dialect
         self.counts_updates = bool(dialect.supports_sane_multi_rowcount)
+        self.staged = False
         self.new_rows = _BulkInsert(session, self.table, constants={
             "version": 1, "created_at": self.now, "updated_at": self.now})
         self.entries = _BulkInsert(session, history.ChangeRecord.__table__, constants={"changed_at": self.now},
@@ -168,13 +169,44 @@ class _Writer:
         if new:
             self.new_rows.execute(new)
         if changed:
-            result = self.session.execute(self.changed_statement, changed)
-            if self.counts_updates and result.rowcount != len(changed):
-                raise StaleDataError(f"{len(changed) - result.rowcount} {self.table.name} row(s) changed "
+            updated = self._update(changed)
+            if updated is not None and updated != len(changed):
+                raise StaleDataError(f"{len(changed) - updated} {self.table.name} row(s) changed "
                                      "while the import ran")
         self.report.added += len(new)
         self.report.changed += len(changed)
         self._history(entries)
+
+    def _update(self, changed: list[dict[str, Any]]) -> int | None:
+        """Overwrite the changed rows (each only if its version is still the one read);
+        how many were overwritten, when the driver says.
+
+        PostgreSQL: the rows are copied into a temporary table and written with one
+        UPDATE ... FROM, so migration 0004's statement trigger fires once per chunk and
+        the rows cross the network in one stream. Elsewhere one `executemany`."""
+        if not self.new_rows.copy:
+            result = self.session.execute(self.changed_statement, changed)
+            return result.rowcount if self.counts_updates else None
+        staging = f"import_{self.table.name}"
+        names = [name for name in self.compared if name != self.key]
+        connection = self.session.connection()
+        if not self.staged:
+            connection.exec_driver_sql(
+                f"CREATE TEMPORARY TABLE IF NOT EXISTS {staging} ON COMMIT DROP AS "
+                f"SELECT {self.key}, version, {', '.join(names)} FROM {self.table.name} WITH NO DATA")
+            self.staged = True
+        connection.exec_driver_sql(f"TRUNCATE {staging}")
+        columns = [self.key, "version", *names]
+        with connection.connection.cursor() as cursor, \
+                cursor.copy(f"COPY {staging} ({', '.join(columns)}) FROM STDIN") as copy:
+            for row in changed:
+                copy.write_row((row["_key"], row["_version"], *(row[name] for name in names)))
+        assignments = ", ".join(f"{name} = {staging}.{name}" for name in names)
+        result = connection.exec_driver_sql(
+            f"UPDATE {self.table.name} SET {assignments}, version = {self.table.name}.version + 1, "
+            f"updated_at = %(now)s FROM {staging} WHERE {self.table.name}.{self.key} = {staging}.{self.key} "
+            f"AND {self.table.name}.version = {staging}.version", {"now": self.now})
+        return result.rowcount
 
     def delete_all_but(self, keep: Iterable[str]) -> None:
         """replace: delete every record the file did not name."""
