@@ -318,3 +318,21 @@ def test_the_streaming_reader_reads_the_file_as_it_goes(tmp_path):
         assert first.document["sku"] == "S-00000"
         assert stream.tell() < path.stat().st_size / 10
         assert sum(1 for _ in rows) == 9_999
+
+
+def test_a_row_changed_while_the_import_ran_is_not_overwritten(app, monkeypatch):
+    from sqlalchemy import text
+    from sqlalchemy.orm.exc import StaleDataError
+
+    import_text(app, FILE)
+    before = export_text(app)
+    original = stock._Writer._columns
+
+    def columns_after_another_write(self, row):  # runs after the chunk's stored rows were read
+        self.session.execute(text("UPDATE plugs SET version = version + 1 WHERE sku = 'A-2'"))
+        return original(self, row)
+
+    monkeypatch.setattr(stock._Writer, "_columns", columns_after_another_write)
+    with pytest.raises(StaleDataError):
+        import_text(app, FILE.replace("A-2,M14x1.25,flat,12.7,,,20.8,0,", "A-2,M14x1.25,flat,12.7,,,20.8,9,C-1"))
+    assert export_text(app) == before
