@@ -25,10 +25,17 @@ repeated here). The rules, in one place:
   `reach` would otherwise be silently dropped), missing ones are absent values;
 - lines starting with `#` before the header are comments (the demo files say there that
   they are invented data);
-- UTF-8, with or without a byte-order mark; comma-separated; RFC 4180 quoting.
+- UTF-8, with or without a byte-order mark; comma-separated; RFC 4180 quoting (read by
+  `service.formats.text_file`, shared with build lists);
+- a text cell a spreadsheet would run as a formula is written with a leading `'`, which
+  an import removes again (`neutralise`, `unmark`).
 
 Numbers are written in Python's shortest round-trip form (`repr`), so `float(cell)`
 gives back the very float that was stored: export → import changes nothing.
+
+Two readers give the same answers: `read_csv`/`read_json_lines` with `validate` load each
+row whole through the schema (the reference, and what small files use); `RowReader` reads
+a file as it streams in and loads each distinct design once (imports).
 """
 from __future__ import annotations
 

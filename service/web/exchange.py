@@ -1,10 +1,13 @@
 """Inventory exchange: POST /v1/imports/{plugs,heads} and GET /v1/exports/{plugs,heads}.
 
-A shop's stock list travels as a file. An import is read whole, every row is validated
-through the same schema as `POST /v1/plugs` (`service.formats.stock_file`), and only a file
-without a bad row is written, in one transaction (`service.usecases.stock`): a 422 lists every
-bad row by line number and column, and the database is as it was. An export is the CSV
-that imports back unchanged. Imports are writes (API key); exports are reads.
+A shop's stock list travels as a file. An import is read in one streaming pass, every
+row validated by the same schema as `POST /v1/plugs` (`service.formats.stock_file`) and
+written in bulk in one transaction, committed only when no row was bad
+(`service.usecases.stock`): a 422 lists every bad row by line number and column, and the
+database is as it was. A file of more than PLUGFIT_MAX_IMPORT_ROWS rows is a 413 before
+any row is read (larger files go through `plugfit import`). An export is the CSV that
+imports back unchanged, spreadsheet formulas marked. Imports are writes (API key);
+exports are reads.
 """
 from __future__ import annotations
 
@@ -132,7 +135,8 @@ class PlugImport(MethodView):
         bad row by line number and column (JSON lines: by field), e.g.
         `{"7": {"reach_mm": ["must be at most 60 mm"]}}`. A key that appears twice is an
         error on its second line. `?dry_run=true` validates and counts without writing.
-        Needs an API key.
+        At most PLUGFIT_MAX_IMPORT_ROWS data rows (default 50,000): more is a 413 before
+        any row is read; `plugfit import` takes larger files. Needs an API key.
         """
         return _import("plugs", query)
 

@@ -208,9 +208,9 @@ def test_rows_at_the_cap_are_counted_as_rows_not_lines(app, client, auth):
 def test_the_default_cap_is_documented_with_its_value(app):
     from service.config import Defaults
 
-    assert app.config["MAX_IMPORT_ROWS"] == Defaults.MAX_IMPORT_ROWS == 100_000
+    assert app.config["MAX_IMPORT_ROWS"] == Defaults.MAX_IMPORT_ROWS == 50_000
     operations = (Path(__file__).resolve().parents[2] / "docs" / "operations.md").read_text()
-    assert "`PLUGFIT_MAX_IMPORT_ROWS` | `100000`" in operations
+    assert "`PLUGFIT_MAX_IMPORT_ROWS` | `50000`" in operations
 
 
 @pytest.mark.parametrize("mode", ["upsert", "replace"])
