@@ -13,6 +13,7 @@ from pathlib import Path
 
 import click
 from flask import Flask
+from sqlalchemy.orm.exc import StaleDataError
 
 from service.cli.common import progress_bar, with_app
 from service.formats import stock_file
@@ -38,6 +39,8 @@ def _import(app: Flask, resource: str, path: Path, mode: str, dry_run: bool) -> 
                                         mode, keys=reader.first_line)
         except stock_file.FileUnusable as unusable:
             raise click.ClickException(f"{path}: {unusable}") from None
+        except StaleDataError as conflict:
+            raise click.ClickException(f"{path}: {conflict}; nothing was written, run the import again") from None
         report = outcome.report
         report.dry_run = dry_run
         if outcome.ok and not dry_run:

@@ -26,6 +26,7 @@ from typing import Any
 
 import orjson
 from sqlalchemy import bindparam, delete, func, insert, select, update
+from sqlalchemy.exc import IntegrityError
 from sqlalchemy.orm import Session
 from sqlalchemy.orm.exc import StaleDataError
 
@@ -167,7 +168,15 @@ class _Writer:
                 after = history.as_shown(self.kind, self.mapping.document_of(SimpleNamespace(**columns)))
                 entries.append(self._entry(identifier, before, after, stored["version"], stored["version"] + 1))
         if new:
-            self.new_rows.execute(new)
+            try:
+                self.new_rows.execute(new)
+            except Exception as error:
+                if not self._is_duplicate(error):
+                    raise
+                # Another writer created one of these keys after the chunk was read: as for
+                # a record changed meanwhile, nothing is written and the import may be sent again.
+                raise StaleDataError(f"a {self.key} of this chunk was created by another write while the "
+                                     "import ran") from error
         if changed:
             updated = self._update(changed)
             if updated is not None and updated != len(changed):
@@ -176,6 +185,10 @@ class _Writer:
         self.report.added += len(new)
         self.report.changed += len(changed)
         self._history(entries)
+
+    def _is_duplicate(self, error: Exception) -> bool:
+        dbapi = self.session.get_bind().dialect.dbapi
+        return isinstance(error, IntegrityError) or (dbapi is not None and isinstance(error, dbapi.IntegrityError))
 
     def _update(self, changed: list[dict[str, Any]]) -> int | None:
         """Overwrite the changed rows (each only if its version is still the one read);

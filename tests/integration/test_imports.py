@@ -336,3 +336,25 @@ def test_a_row_changed_while_the_import_ran_is_not_overwritten(app, monkeypatch)
     with pytest.raises(StaleDataError):
         import_text(app, FILE.replace("A-2,M14x1.25,flat,12.7,,,20.8,0,", "A-2,M14x1.25,flat,12.7,,,20.8,9,C-1"))
     assert export_text(app) == before
+
+
+def test_a_key_created_by_another_write_while_the_import_ran_is_a_409(app, client, auth, monkeypatch):
+    """Two imports naming the same new sku at once: the second to write gets a 409 problem
+    (nothing written, send it again), never a 500."""
+    from sqlalchemy import text
+
+    original = stock._Writer._columns
+
+    def columns_after_another_insert(self, row):  # runs after the chunk's stored rows were read
+        if row.document["sku"] == "A-2":
+            self.session.execute(text("INSERT INTO plugs (sku, thread, seat, nonstandard_thread, quantity_on_hand, "
+                                      "version, created_at, updated_at) VALUES ('A-2', 'M14x1.25', 'flat', false, "
+                                      "0, 1, CURRENT_TIMESTAMP, CURRENT_TIMESTAMP)"))
+        return original(self, row)
+
+    monkeypatch.setattr(stock._Writer, "_columns", columns_after_another_insert)
+    response = post(client, auth, FILE)
+    assert response.status_code == 409
+    assert response.mimetype == PROBLEM_MEDIA_TYPE
+    assert "nothing was written" in response.get_json()["detail"]
+    assert stored(app) == [] and history_rows(app) == []
