@@ -18,7 +18,8 @@ PORT   ?= 8000
 # makes and drops a scratch database of its own). REQUIRE_POSTGRES=1 makes its absence fatal.
 POSTGRES_URL ?= postgresql+psycopg://postgres@127.0.0.1:5432/postgres
 
-.PHONY: run test test-sqlite test-postgres lint venv venv-test migrate seed serve bench bench-load bench-counter
+.PHONY: run test test-sqlite test-postgres lint venv venv-test migrate seed serve bench bench-load bench-counter \
+	bench-imports
 
 ## Set up the virtual environment with the runtime dependencies (again only when
 ## pyproject.toml changed).
@@ -91,4 +92,14 @@ bench-counter: venv-test
 	  $(BIN)/python benchmarks/bench_counter.py --postgres '$(POSTGRES_URL)'; \
 	else \
 	  echo "*** no PostgreSQL answers at $(POSTGRES_URL): SQLite only"; $(BIN)/python benchmarks/bench_counter.py; \
+	fi
+
+## Imports of 100,000 plugs over HTTP and 100,000 and 1,000,000 through the CLI, beside a bare
+## parse-and-insert (benchmarks/bench_imports.py), on SQLite and, when a server answers at
+## POSTGRES_URL, PostgreSQL. Takes several minutes.
+bench-imports: venv-test
+	@if $(BIN)/python -m tests.postgres reachable '$(POSTGRES_URL)'; then \
+	  $(BIN)/python benchmarks/bench_imports.py --postgres '$(POSTGRES_URL)'; \
+	else \
+	  echo "*** no PostgreSQL answers at $(POSTGRES_URL): SQLite only"; $(BIN)/python benchmarks/bench_imports.py; \
 	fi

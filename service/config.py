@@ -31,6 +31,9 @@ class Defaults:
     MAX_BODY_BYTES: int = 32 * MIB
     # Most items one batch may hold (used by the batch endpoint).
     MAX_BATCH_ITEMS: int = 50_000
+    # Most data rows one import over HTTP may hold; larger files go through `plugfit import`.
+    # Chosen so an import at the cap ends far inside TIMEOUT (docs/performance.md, Imports).
+    MAX_IMPORT_ROWS: int = 50_000
     # Largest `page_size` a list accepts.
     MAX_PAGE_SIZE: int = 1000
     # Python logging level name for the service's own log lines.

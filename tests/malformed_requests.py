@@ -38,7 +38,6 @@ SKU, DELETED_SKU = _demo_identifiers("plugs.csv")
 HEAD_ID, DELETED_HEAD_ID = _demo_identifiers("heads.csv")
 # DELETEs remove other records, so the ones above stay for every other request.
 DELETED = {SKU: DELETED_SKU, HEAD_ID: DELETED_HEAD_ID}
-IMPORTS_OWNER = "issue 17 (imports rewrite)"
 
 # What a quantity field may be sent as text: issue 12's reproductions, the grammar's
 # edges and plain junk.
@@ -267,30 +266,26 @@ class Generator:
         media_type, example = self._body(operation)
         media_type = media_type or "application/json"
         good = example.encode() if isinstance(example, str) else _encode(example if example is not None else {})
-        choices: list[tuple[str, bytes, str | None]] = [  # (what, body, a kind owned elsewhere on imports)
-            ("cut short", good[: self.rng.randrange(max(1, len(good)))], None),
-            ("byte order mark", b"\xef\xbb\xbf" + good, None),
-            ("not UTF-8", good[:5] + b"\xff\xfe\xc3\x28" + good[5:], None),
-            ("empty", b"", None),
-            ("only a byte order mark", b"\xef\xbb\xbf", None),
-            ("null", b"null", None), ("a list", b"[]", None), ("a string", b'"plug"', None),
-            ("NaN literal", b'{"plug": NaN, "head": Infinity}', None),
-            ("nested 10,000 deep", b"[" * 10_000 + b"]" * 10_000, "deep"),
-            ("objects nested 10,000 deep", b'{"a":' * 10_000 + b"1" + b"}" * 10_000, "deep"),
-            ("1 MiB of white space", good + b" " * (1 << 20), "huge cell"),
-            ("duplicate keys", b'{"items": [], "items": [], "plug": 1, "plug": 2}', None),
-            ("UTF-16", json.dumps(example).encode("utf-16") if example is not None else b"\xff\xfe", None),
-            ("a NUL byte", good[:3] + b"\x00" + good[3:], None),
+        choices: list[tuple[str, bytes]] = [  # (what, body)
+            ("cut short", good[: self.rng.randrange(max(1, len(good)))]),
+            ("byte order mark", b"\xef\xbb\xbf" + good),
+            ("not UTF-8", good[:5] + b"\xff\xfe\xc3\x28" + good[5:]),
+            ("empty", b""),
+            ("only a byte order mark", b"\xef\xbb\xbf"),
+            ("null", b"null"), ("a list", b"[]"), ("a string", b'"plug"'),
+            ("NaN literal", b'{"plug": NaN, "head": Infinity}'),
+            ("nested 10,000 deep", b"[" * 10_000 + b"]" * 10_000),
+            ("objects nested 10,000 deep", b'{"a":' * 10_000 + b"1" + b"}" * 10_000),
+            ("1 MiB of white space", good + b" " * (1 << 20)),
+            ("duplicate keys", b'{"items": [], "items": [], "plug": 1, "plug": 2}'),
+            ("UTF-16", json.dumps(example).encode("utf-16") if example is not None else b"\xff\xfe"),
+            ("a NUL byte", good[:3] + b"\x00" + good[3:]),
         ]
-        mutation, body, kind = self.rng.choice(choices)
+        mutation, body = self.rng.choice(choices)
         if self.rng.random() < 0.25:
             media_type = self.rng.choice(CONTENT_TYPES)
             mutation += f" as {media_type!r}"
-        # Issue 12 items 3 and 4, which the imports rewrite fixes: deep JSON lines, and a
-        # CSV cell over the csv module's 131,072 characters (white space on the last line).
-        owned = {"deep": "json", "huge cell": "csv"}.get(kind or "")
-        owner = IMPORTS_OWNER if owned and "/imports/" in operation.path and owned in media_type else None
-        return self._case(operation, f"body {mutation}", media_type=media_type, body=body, owner=owner)
+        return self._case(operation, f"body {mutation}", media_type=media_type, body=body)
 
     # One CSV cell (batch and import bodies) gets a hostile value.
     def spoil_a_cell(self, operation: Operation) -> Case:
@@ -308,7 +303,6 @@ class Generator:
             value = self.rng.choice(HOSTILE_QUANTITIES)
         elif roll < 0.6:
             value = "x" * 200_000
-            owner = IMPORTS_OWNER if "/imports/" in operation.path else None
         elif roll < 0.7:
             value = self.rng.choice(HUGE_NUMBERS)
         else:

@@ -7,9 +7,11 @@ Imports neither Flask nor the schemas at import time, so `plugfit validate` and
 from __future__ import annotations
 
 import sys
-from collections.abc import Callable
+import time
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
 from functools import update_wrapper
-from typing import TYPE_CHECKING, Any, NoReturn
+from typing import TYPE_CHECKING, Any, NoReturn, TextIO
 
 import click
 
@@ -72,3 +74,35 @@ def with_app(func: Callable[..., Any]) -> Callable[..., Any]:
             return func(app, *args, **kwargs)
 
     return update_wrapper(wrapper, func)
+
+
+PROGRESS_AFTER_S = 1.0  # work done sooner than this shows no progress bar
+
+
+@contextmanager
+def progress_bar(total: int, stream: TextIO | None = None, clock: Callable[[], float] = time.monotonic,
+                 label: str = "checking") -> Iterator[Callable[[int], None]]:
+    """A progress bar on standard error for work that takes more than
+    PROGRESS_AFTER_S, drawn only when standard error is a terminal (CI logs and files
+    stay clean). Yields the `progress` function the use case calls with each step done
+    (lines checked, bytes read)."""
+    stream = stream if stream is not None else sys.stderr
+    on_terminal = stream.isatty()
+    started = clock()
+    done = 0
+    bar: Any = None
+
+    def progress(steps: int) -> None:
+        nonlocal done, bar
+        done += steps
+        if bar is None and on_terminal and clock() - started >= PROGRESS_AFTER_S:
+            bar = click.progressbar(length=total, label=label, file=stream)
+            bar.update(done)
+        elif bar is not None:
+            bar.update(steps)
+
+    try:
+        yield progress
+    finally:
+        if bar is not None:
+            bar.render_finish()

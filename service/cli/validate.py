@@ -25,16 +25,14 @@ from __future__ import annotations
 
 import os
 import sys
-import time
-from collections.abc import Callable, Iterator, Mapping
-from contextlib import contextmanager
+from collections.abc import Mapping
 from itertools import pairwise
 from pathlib import Path
-from typing import TYPE_CHECKING, Any, TextIO
+from typing import TYPE_CHECKING, Any
 
 import click
 
-from service.cli.common import EXIT_UNREACHABLE, EXIT_UNUSABLE, parse_checks
+from service.cli.common import EXIT_UNREACHABLE, EXIT_UNUSABLE, parse_checks, progress_bar
 
 if TYPE_CHECKING:
     from service.formats.build_list import RawItem
@@ -49,7 +47,6 @@ MIN_LINES_TO_SHARE = 2_000
 # for a few short parts at most. A process keeps what it loaded from part to part.
 PARTS_PER_JOB = 4
 MAX_PART_LINES = 1_000
-PROGRESS_AFTER_S = 1.0  # a list checked sooner than this shows no progress bar
 
 
 def default_jobs() -> int:
@@ -216,34 +213,6 @@ def _start_worker(plugs: Mapping[str, dict], heads: Mapping[str, dict], units: s
 def _check_in_worker(raw_items: list[RawItem]) -> BatchAnswer:
     assert _worker is not None, "a part is checked in a process of the pool"
     return _worker.check(raw_items)
-
-
-@contextmanager
-def progress_bar(total: int, stream: TextIO | None = None,
-                 clock: Callable[[], float] = time.monotonic) -> Iterator[Progress]:
-    """A progress bar on standard error for a list that takes more than
-    PROGRESS_AFTER_S, drawn only when standard error is a terminal (CI logs and files
-    stay clean). Yields the `progress` function the use case calls."""
-    stream = stream if stream is not None else sys.stderr
-    on_terminal = stream.isatty()
-    started = clock()
-    done = 0
-    bar: Any = None
-
-    def progress(lines: int) -> None:
-        nonlocal done, bar
-        done += lines
-        if bar is None and on_terminal and clock() - started >= PROGRESS_AFTER_S:
-            bar = click.progressbar(length=total, label="checking", file=stream)
-            bar.update(done)
-        elif bar is not None:
-            bar.update(lines)
-
-    try:
-        yield progress
-    finally:
-        if bar is not None:
-            bar.render_finish()
 
 
 def _remote(data: bytes, source: str, server: str, api_key: str | None, units: str, require: list[str],

@@ -28,9 +28,7 @@ Pure: no Flask, no database. Unit suffixes are checked with `service.units` (cac
 """
 from __future__ import annotations
 
-import csv
 import difflib
-import io
 import json
 import re
 from collections.abc import Callable, Iterable, Mapping
@@ -43,7 +41,7 @@ from marshmallow import Schema, ValidationError, fields
 from schemas.batch import BatchRequestSchema
 from schemas.fields import Length, Quantity
 from schemas.specs import HeadInputSchema, OptionsSchema, PlugInputSchema
-from service.formats import json_text
+from service.formats import json_text, text_file
 from service.units import KINDS, MAX_QUANTITY_TEXT, UnitError, parse_quantity
 
 CSV_MEDIA_TYPES = frozenset({"text/csv", "application/csv"})
@@ -385,16 +383,17 @@ def read_csv(text: str, *, max_items: int | None = None) -> list[RawItem]:
     text = text.lstrip("\ufeff")
     if "\x00" in text:
         raise BuildListError([Problem("the file holds NUL bytes: not a text CSV file")])
-    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
+    lines = text_file.csv_rows(text)
+    header, header_line = None, 0
     try:
-        header = next(reader, None)
-        while header is not None and (not any(cell.strip() for cell in header)
-                                      or header[0].lstrip().startswith(COMMENT_PREFIX)):
-            header = next(reader, None)  # blank and comment lines before the header
-    except csv.Error as exc:
-        raise BuildListError([Problem(f"cannot read the header: {exc}", reader.line_num)]) from None
-    header_line = reader.line_num
-    if header is None or not any(cell.strip() for cell in header):
+        for line, cells in lines:
+            header_line = line
+            if any(cell.strip() for cell in cells) and not cells[0].lstrip().startswith(COMMENT_PREFIX):
+                header = cells  # blank and comment lines come before it
+                break
+    except text_file.NotText as exc:
+        raise BuildListError([Problem(f"cannot read the header: {exc.reason}", exc.line)]) from None
+    if header is None:
         raise BuildListError([Problem("the file is empty: a build list starts with a header row",
                                       max(header_line, 1))])
     if len(header) == 1 and ";" in header[0]:
@@ -408,10 +407,8 @@ def read_csv(text: str, *, max_items: int | None = None) -> list[RawItem]:
     rows = _RowReader(columns)
     items: list[RawItem] = []
     problems: list[Problem] = []
-    last_line = header_line
     try:
-        for cells in reader:
-            start, last_line = last_line + 1, reader.line_num
+        for start, cells in lines:
             if not any(cell.strip() for cell in cells):
                 continue
             if len(cells) != width:
@@ -422,8 +419,8 @@ def read_csv(text: str, *, max_items: int | None = None) -> list[RawItem]:
             if max_items is not None and len(items) >= max_items:
                 raise TooManyItems(max_items)
             items.append(rows.item(len(items) + 1, start, cells))
-    except csv.Error as exc:
-        problems.append(Problem(f"cannot read the row: {exc}", reader.line_num))
+    except text_file.NotText as exc:
+        problems.append(Problem(f"cannot read the row: {exc.reason}", exc.line))
     if problems:
         raise BuildListError(problems)
     if not items:
@@ -542,13 +539,12 @@ def read_build_list(text: str, *, csv_format: bool | None = None, max_items: int
 
 
 def decode(data: bytes) -> str:
-    """A build list's bytes as text; refuses anything that is not UTF-8 (with or without BOM)."""
+    """A build list's bytes as text; refuses anything that is not UTF-8 (with or without
+    BOM). The one decoder of every text file (`service.formats.text_file`)."""
     try:
-        return data.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        line = data[:exc.start].count(b"\n") + 1
-        raise BuildListError([Problem(f"not UTF-8 text (byte {exc.start + 1}); save the file as UTF-8",
-                                      line)]) from None
+        return text_file.decode(data)
+    except text_file.NotText as exc:
+        raise BuildListError([Problem(exc.reason, exc.line)]) from None
 
 
 # --- errors by column -------------------------------------------------------------------

@@ -3,8 +3,9 @@
 Whoever changes a record adds its history entry in the same session, before the
 commit, so the change and its entry are one transaction: neither exists without the
 other. The API's create/replace/delete do this (service/web/records.py); an import
-calls `record_changes` once for its whole file. Entries are never updated or deleted:
-the migration that made the table (0003) also made database triggers that refuse it.
+writes an `entry` per change with bulk statements (`service.usecases.stock`). Entries
+are never updated or deleted: the migration that made the table (0003) also made
+database triggers that refuse it.
 
 `before` and `after` are kept as the API shows the record (the GET body), so the
 history reads like the API and survives later changes to the table's columns.
@@ -12,14 +13,15 @@ history reads like the API and survives later changes to the table's columns.
 from __future__ import annotations
 
 import getpass
-from collections.abc import Iterable, Mapping, Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from datetime import datetime
 from functools import cache
 from typing import Any
 
 from flask import g, has_request_context
 from marshmallow import Schema
-from sqlalchemy import func, insert, select
+from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from service.store.models import ChangeRecord, utc_now
@@ -33,7 +35,7 @@ ACTOR_LENGTH = 100
 
 @dataclass(frozen=True)
 class Change:
-    """One record's change, for `record_changes`. `before`/`after` are stored documents as
+    """One record's change, for `record_change`. `before`/`after` are stored documents as
     the repository reads them (`RecordMapping.document_of`), None for a create/delete."""
 
     identifier: str
@@ -75,13 +77,20 @@ def current_source() -> str:
     return API if has_request_context() else CLI
 
 
-def _row(kind: str, change: Change, actor: str, source: str, when) -> dict[str, Any]:
+def entry(kind: str, identifier: str, before: dict[str, Any] | None, after: dict[str, Any] | None, actor: str,
+          source: str, when: datetime, version_before: int | None = None,
+          version_after: int | None = None) -> dict[str, Any]:
+    """One history row, `before` and `after` already as the API shows them (`as_shown`)."""
     return {
-        "resource": kind, "identifier": change.identifier, "action": action_of(change.before, change.after),
+        "resource": kind, "identifier": identifier, "action": action_of(before, after),
         "actor": actor[:ACTOR_LENGTH], "source": source, "changed_at": when,
-        "version_before": change.version_before, "version_after": change.version_after,
-        "before": as_shown(kind, change.before), "after": as_shown(kind, change.after),
+        "version_before": version_before, "version_after": version_after, "before": before, "after": after,
     }
+
+
+def _row(kind: str, change: Change, actor: str, source: str, when: datetime) -> dict[str, Any]:
+    return entry(kind, change.identifier, as_shown(kind, change.before), as_shown(kind, change.after), actor,
+                 source, when, change.version_before, change.version_after)
 
 
 def record_change(session: Session, kind: str, key: str, before: Mapping[str, Any] | None,
@@ -91,23 +100,6 @@ def record_change(session: Session, kind: str, key: str, before: Mapping[str, An
     caller's commit writes it with the change itself."""
     change = Change(key, before, after, version_before, version_after)
     session.add(ChangeRecord(**_row(kind, change, actor or current_actor(), source or current_source(), utc_now())))
-
-
-def record_changes(session: Session, kind: str, changes: Iterable[Change], actor: str | None = None,
-                   source: str = IMPORT, chunk: int = 1000) -> int:
-    """Add entries for many changes (an import) with bulk inserts; returns how many."""
-    actor, when = actor or current_actor(), utc_now()
-    written = 0
-    batch: list[dict[str, Any]] = []
-    for change in changes:
-        batch.append(_row(kind, change, actor, source, when))
-        if len(batch) >= chunk:
-            session.execute(insert(ChangeRecord), batch)
-            written, batch = written + len(batch), []
-    if batch:
-        session.execute(insert(ChangeRecord), batch)
-        written += len(batch)
-    return written
 
 
 def page(session: Session, kind: str, key: str, offset: int, limit: int,

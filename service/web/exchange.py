@@ -1,16 +1,19 @@
 """Inventory exchange: POST /v1/imports/{plugs,heads} and GET /v1/exports/{plugs,heads}.
 
-A shop's stock list travels as a file. An import is read whole, every row is validated
-through the same schema as `POST /v1/plugs` (`service.formats.stock_file`), and only a file
-without a bad row is written, in one transaction (`service.usecases.stock`): a 422 lists every
-bad row by line number and column, and the database is as it was. An export is the CSV
-that imports back unchanged. Imports are writes (API key); exports are reads.
+A shop's stock list travels as a file. An import is read in one streaming pass, every
+row validated by the same schema as `POST /v1/plugs` (`service.formats.stock_file`) and
+written in bulk in one transaction, committed only when no row was bad
+(`service.usecases.stock`): a 422 lists every bad row by line number and column, and the
+database is as it was. A file of more than PLUGFIT_MAX_IMPORT_ROWS rows is a 413 before
+any row is read (larger files go through `plugfit import`). An export is the CSV that
+imports back unchanged, spreadsheet formulas marked. Imports are writes (API key);
+exports are reads.
 """
 from __future__ import annotations
 
 from typing import Any
 
-from flask import Response, request
+from flask import Response, current_app, request
 from flask.views import MethodView
 
 from schemas.exchange import ImportQuerySchema, ImportReportSchema
@@ -65,19 +68,30 @@ def _import(resource: str, query: dict[str, Any]) -> dict[str, Any]:
         problems.abort(415, f"The file was sent as {media_type or 'no content type'}; send it as "
                             "'Content-Type: text/csv' or 'Content-Type: application/x-ndjson' (JSON lines).")
     fmt = stock_file.format_for(resource)
-    try:
-        validated = stock_file.parse(request.get_data(cache=False), media_type, fmt)
-    except stock_file.FileUnusable as unusable:
-        problems.abort(422, str(unusable), errors=unusable.errors, slug="file-unusable")
-    if not validated.ok:
-        listed = len(validated.errors)
-        more = (f" The first {listed} are listed." if listed < validated.bad_rows else "")
-        problems.abort(422, f"{validated.bad_rows} row(s) cannot be imported, so nothing was written; "
-                            f"errors are keyed by line number, then column.{more}",
-                       errors=validated.errors)
+    data = request.get_data(cache=False)
+    cap = current_app.config["MAX_IMPORT_ROWS"]
+    rows = stock_file.more_rows_than(data, media_type, cap)
+    if rows is not None:  # before any row is read: the refusal costs one pass over the bytes
+        problems.abort(413, f"The file holds {rows} rows; an import over HTTP holds at most {cap} "
+                            "(setting PLUGFIT_MAX_IMPORT_ROWS). Nothing was written. Import a larger file on the "
+                            f"server with `plugfit import {resource} FILE`, which takes any size, or send it "
+                            "in parts.", slug="too-many-rows", limit=cap)
+    reader = stock_file.RowReader(fmt)
     session = db.session()
-    report = stock.apply_import(session, resource, [document for _line, document in validated.documents],
-                                  query["mode"])
+    try:
+        outcome = stock.import_rows(session, resource, stock_file.rows_of(data, media_type, reader),
+                                    query["mode"], keys=reader.first_line)
+    except stock_file.FileUnusable as unusable:
+        session.rollback()
+        problems.abort(422, str(unusable), errors=unusable.errors, slug="file-unusable")
+    if not outcome.ok:
+        session.rollback()
+        listed = len(outcome.errors)
+        more = (f" The first {listed} are listed." if listed < outcome.bad_rows else "")
+        problems.abort(422, f"{outcome.bad_rows} row(s) cannot be imported, so nothing was written; "
+                            f"errors are keyed by line number, then column.{more}",
+                       errors=outcome.errors)
+    report = outcome.report
     report.dry_run = query["dry_run"]
     if report.dry_run:
         session.rollback()
@@ -108,6 +122,7 @@ class PlugImport(MethodView):
     @blp.arguments(ImportQuerySchema, location="query")
     @blp.doc(requestBody=_request_body("plugs"))
     @blp.response(200, ImportReportSchema, example=EXAMPLE_REPORT)
+    @blp.alt_response(413, response="REQUEST_ENTITY_TOO_LARGE")
     @blp.alt_response(415, response="UNSUPPORTED_MEDIA_TYPE")
     def post(self, query):
         """Import plugs from CSV or JSON lines
@@ -120,7 +135,8 @@ class PlugImport(MethodView):
         bad row by line number and column (JSON lines: by field), e.g.
         `{"7": {"reach_mm": ["must be at most 60 mm"]}}`. A key that appears twice is an
         error on its second line. `?dry_run=true` validates and counts without writing.
-        Needs an API key.
+        At most PLUGFIT_MAX_IMPORT_ROWS data rows (default 50,000): more is a 413 before
+        any row is read; `plugfit import` takes larger files. Needs an API key.
         """
         return _import("plugs", query)
 
@@ -131,6 +147,7 @@ class HeadImport(MethodView):
     @blp.arguments(ImportQuerySchema, location="query")
     @blp.doc(requestBody=_request_body("heads"))
     @blp.response(200, ImportReportSchema, example={**EXAMPLE_REPORT, "resource": "heads"})
+    @blp.alt_response(413, response="REQUEST_ENTITY_TOO_LARGE")
     @blp.alt_response(415, response="UNSUPPORTED_MEDIA_TYPE")
     def post(self, query):
         """Import heads from CSV or JSON lines

@@ -9,7 +9,7 @@ sent again alone (the first slow answers may be the shared machine's pauses; a
 request that costs the server that much costs it every time).
 
 Requests whose answers another issue is fixing are sent too; their failures are
-reported, not counted (the `owner` of a case), and each has an xfail test below.
+reported, not counted (the `owner` of a case).
 """
 from __future__ import annotations
 
@@ -22,7 +22,7 @@ import requests
 
 from schemas.problem import PROBLEM_MEDIA_TYPE
 from tests.live_server import REPO, running_server
-from tests.malformed_requests import IMPORTS_OWNER, SERVER_OWN_IN_DOCS, Answer, Case, generate, operations, send
+from tests.malformed_requests import SERVER_OWN_IN_DOCS, Answer, Case, generate, operations, send
 
 pytestmark = pytest.mark.server
 
@@ -115,18 +115,24 @@ def test_thousands_of_malformed_requests_get_no_5xx_no_slow_answer_and_only_prob
     print("\n" + summary)
 
 
-OWNED_BY_IMPORTS = [
-    ("JSON lines nested 10,000 deep", "application/x-ndjson", b'{"a":' * 10_000 + b"1" + b"}" * 10_000 + b"\n"),
+# Issue 12, items 3 and 4: each is refused as a problem that names the line (and the
+# column, for a CSV cell), never a 500.
+IMPORT_EXTREMES = [
+    ("JSON lines nested 10,000 deep", "application/x-ndjson", b'{"a":' * 10_000 + b"1" + b"}" * 10_000 + b"\n",
+     ("1", "_row")),
     ("a CSV cell over 131,072 characters", "text/csv", b"sku,thread,seat,reach_mm\nX-1,M14x1.25,flat," +
-     b"1" * 200_000 + b"\n"),
+     b"1" * 200_000 + b"\n", ("2", "reach_mm")),
+    ("a CSV text cell of 1 MiB", "text/csv", b"sku,thread,seat,description\nX-1,M14x1.25,flat," +
+     b"x" * (1 << 20) + b"\n", ("2", "description")),
 ]
 
 
-@pytest.mark.xfail(reason=f"{IMPORTS_OWNER} answers these with a 4xx naming line and column (issue 12, items 3-4)",
-                   strict=False)
-@pytest.mark.parametrize(("what", "media_type", "body"), OWNED_BY_IMPORTS, ids=[w for w, _, _ in OWNED_BY_IMPORTS])
-def test_imports_refuse_deep_json_lines_and_oversize_cells_as_problems(server, what, media_type, body):
+@pytest.mark.parametrize(("what", "media_type", "body", "where"), IMPORT_EXTREMES, ids=[w for w, *_ in IMPORT_EXTREMES])
+def test_imports_refuse_deep_json_lines_and_oversize_cells_as_problems(server, what, media_type, body, where):
     response = requests.post(server.base_url + "/v1/imports/plugs", data=body, timeout=HUNG_S,
                              headers={**server.auth, "Content-Type": media_type})
-    assert 400 <= response.status_code < 500, what
+    assert response.status_code == 422, what
     assert response.headers["Content-Type"].startswith(PROBLEM_MEDIA_TYPE)
+    line, column = where
+    assert list(response.json()["errors"]) == [line]
+    assert column in response.json()["errors"][line], response.json()

@@ -1,10 +1,10 @@
-"""`plugfit validate`'s progress bar: drawn on a terminal once a list has taken a
-second, never in a log or a file."""
+"""The progress bar of `plugfit validate` and `plugfit import`: drawn on a terminal once
+the work has taken a second, never in a log or a file."""
 from __future__ import annotations
 
 import io
 
-from service.cli.validate import PROGRESS_AFTER_S, progress_bar
+from service.cli.common import PROGRESS_AFTER_S, progress_bar
 
 
 class Terminal(io.StringIO):
@@ -38,3 +38,11 @@ def test_no_bar_when_standard_error_is_not_a_terminal():
         clock.now += 10 * PROGRESS_AFTER_S
         progress(1000)
     assert stream.getvalue() == ""
+
+
+def test_the_import_bar_follows_the_bytes_read_under_its_own_label():
+    stream, clock = Terminal(), Clock()
+    with progress_bar(4000, stream, clock, label="importing stock.csv") as progress:
+        clock.now += PROGRESS_AFTER_S
+        progress(1000)
+    assert "importing stock.csv" in stream.getvalue() and "25%" in stream.getvalue()
