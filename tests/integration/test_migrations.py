@@ -11,6 +11,14 @@ from service.store import db
 from service.store.models import Base
 
 
+def _insert_head(connection, head_id: str) -> None:
+    """A bare M14 flat-seat head written with plain SQL (no model: the schema under test
+    may be an older revision's)."""
+    connection.execute(text("INSERT INTO heads (head_id, thread, nonstandard_thread, seat, version, created_at, "
+                            "updated_at) VALUES (:head_id, 'M14x1.25', false, 'flat', 1, CURRENT_TIMESTAMP, "
+                            "CURRENT_TIMESTAMP)"), {"head_id": head_id})
+
+
 def head_revision() -> str:
     return ScriptDirectory.from_config(db.alembic_config("sqlite://")).get_current_head()
 
@@ -58,9 +66,7 @@ def test_the_heads_generation_triggers_survive_a_downgrade_below_the_boost_colum
         with engine.begin() as connection:
             generation = "SELECT generation FROM table_generations WHERE name = 'heads'"
             before = connection.execute(text(generation)).scalar()
-            connection.execute(text("INSERT INTO heads (head_id, thread, seat, nonstandard_thread, version, "
-                                    "created_at, updated_at) VALUES ('H-TRIGGER', 'M14x1.25', 'flat', false, 1, "
-                                    "CURRENT_TIMESTAMP, CURRENT_TIMESTAMP)"))
+            _insert_head(connection, "H-TRIGGER")
             after = connection.execute(text(generation)).scalar()
     finally:
         engine.dispose()
@@ -68,6 +74,7 @@ def test_the_heads_generation_triggers_survive_a_downgrade_below_the_boost_colum
 
 
 GENERATION = text("SELECT generation FROM table_generations WHERE name = 'heads'")
+
 
 
 def test_a_head_written_at_head_revision_still_raises_the_heads_generation(database_url):
@@ -78,9 +85,7 @@ def test_a_head_written_at_head_revision_still_raises_the_heads_generation(datab
     try:
         with engine.begin() as connection:
             before = connection.execute(GENERATION).scalar() or 0  # the row may have been emptied
-            connection.execute(text("INSERT INTO heads (head_id, thread, nonstandard_thread, seat, version, "
-                                    "created_at, updated_at) VALUES ('T-GEN', 'M14x1.25', false, 'flat', 1, "
-                                    "CURRENT_TIMESTAMP, CURRENT_TIMESTAMP)"))
+            _insert_head(connection, "T-GEN")
             after = connection.execute(GENERATION).scalar() or 0
     finally:
         engine.dispose()
@@ -93,9 +98,7 @@ def test_a_heads_running_data_changed_at_head_revision_raises_the_heads_generati
     engine = db.make_engine(database_url)
     try:
         with engine.begin() as connection:
-            connection.execute(text("INSERT INTO heads (head_id, thread, nonstandard_thread, seat, version, "
-                                    "created_at, updated_at) VALUES ('T-RPM', 'M14x1.25', false, 'flat', 1, "
-                                    "CURRENT_TIMESTAMP, CURRENT_TIMESTAMP)"))
+            _insert_head(connection, "T-RPM")
             before = connection.execute(GENERATION).scalar() or 0
             connection.execute(text("UPDATE heads SET max_rpm = 7000, rod_material = 'steel', "
                                     "reciprocating_mass_g = 600, rod_section_area_mm2 = 150 WHERE head_id = 'T-RPM'"))
@@ -113,9 +116,7 @@ def test_the_heads_generation_triggers_survive_a_downgrade_below_the_running_col
     try:
         with engine.begin() as connection:
             before = connection.execute(GENERATION).scalar() or 0
-            connection.execute(text("INSERT INTO heads (head_id, thread, nonstandard_thread, seat, version, "
-                                    "created_at, updated_at) VALUES ('T-DOWN', 'M14x1.25', false, 'flat', 1, "
-                                    "CURRENT_TIMESTAMP, CURRENT_TIMESTAMP)"))
+            _insert_head(connection, "T-DOWN")
             after = connection.execute(GENERATION).scalar() or 0
     finally:
         engine.dispose()
