@@ -20,7 +20,8 @@ Two lists, both DEMO DATA (an invented fleet workshop; no real engine or part):
 
 Endpoint figures are server time, measured in this process through Flask's test client
 (no network, no gunicorn): from the request entering the app to the whole JSON body,
-wall and CPU. The worker does all of it: the benchmark stops if a child process ran.
+wall and CPU, in an app settled as a gunicorn worker settles its own
+(`service.web.serving.settle_worker`). The worker does all of it: the benchmark stops if a child process ran.
 As a baseline measured in the same run, the engine alone checks the same 10,000 pairs
 (`check_fit` on specs built beforehand); the endpoint's time as a multiple of it
 carries over between machines better than seconds do. The command's figures are whole
@@ -124,11 +125,13 @@ def _children_cpu() -> float:
 def bench_endpoint(text: str, repeat: int) -> list[tuple[float, float]]:
     from service.store import db
     from service.web import create_app
+    from service.web.serving import settle_worker
 
     with tempfile.TemporaryDirectory() as directory:
         url = f"sqlite:///{directory}/bench.db"
         db.upgrade(url)
         app = create_app({"DATABASE_URL": url, "LOG_LEVEL": "WARNING"})
+        settle_worker()  # what a gunicorn worker does once it has built its app
         client = app.test_client()
         body = text.encode()
         samples = []

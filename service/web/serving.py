@@ -25,11 +25,13 @@ can serve one database behind a load balancer.
 """
 from __future__ import annotations
 
+import gc
 import os
 from collections.abc import Mapping
 from typing import Any
 
-from service import config
+from service import config, units
+from service.catalog_loader import load_catalog
 
 # Settings of config.Defaults that configure the server rather than the app.
 SERVER_SETTINGS: tuple[str, ...] = (
@@ -48,6 +50,24 @@ SERVER_SETTINGS: tuple[str, ...] = (
 LIMIT_REQUEST_LINE = 8190
 LIMIT_REQUEST_FIELDS = 100
 LIMIT_REQUEST_FIELD_SIZE = 8190
+
+
+def settle_worker(worker: Any = None) -> None:
+    """gunicorn's `post_worker_init` hook, run once when a worker has built its app and
+    before its first request: load what every request needs (the catalogue, the unit
+    registry), then move every object alive at that moment into the collector's permanent
+    generation (`gc.freeze`).
+
+    Why: a worker's long-lived objects (modules, the unit registry, the catalogue, the
+    schemas: over 100,000 objects) never become garbage, yet each full collection walked
+    them all again; a 10,000-line batch triggers dozens of full collections, which cost it
+    about a tenth of its time. The collector stays enabled and collects whatever a request
+    leaves behind exactly as before; nothing changes inside a request. `worker` is
+    gunicorn's and not used.
+    """
+    load_catalog()
+    units.parse_quantity("1 mm", "length")
+    gc.freeze()
 
 
 def default_workers(cpu_count: int | None) -> int:
@@ -83,6 +103,7 @@ def gunicorn_settings(environ: Mapping[str, str] | None = None, **overrides: Any
         "max_requests": settings["MAX_REQUESTS"],
         "max_requests_jitter": settings["MAX_REQUESTS_JITTER"],
         "preload_app": False,
+        "post_worker_init": settle_worker,
         "limit_request_line": LIMIT_REQUEST_LINE,
         "limit_request_fields": LIMIT_REQUEST_FIELDS,
         "limit_request_field_size": LIMIT_REQUEST_FIELD_SIZE,

@@ -50,3 +50,24 @@ def test_every_setting_gunicorn_is_given_is_one_gunicorn_knows():
 
     known = Config().settings
     assert set(serving.gunicorn_settings({})) <= set(known)
+
+
+def test_a_worker_settles_once_it_has_built_its_app_and_the_collector_stays_on():
+    """`settle_worker` is gunicorn's post_worker_init (after the worker built its app,
+    before its first request): what the worker loaded is frozen out of later full
+    collections, and the collector itself stays enabled, so a request's garbage is
+    collected as before."""
+    import gc
+
+    from gunicorn.config import Config
+
+    settings = serving.gunicorn_settings({})
+    assert settings["post_worker_init"] is serving.settle_worker
+    gunicorn_config = Config()
+    gunicorn_config.set("post_worker_init", settings["post_worker_init"])  # gunicorn takes it as a hook
+    try:
+        serving.settle_worker()
+        assert gc.get_freeze_count() > 10_000  # modules, the unit registry, the catalogue
+        assert gc.isenabled()
+    finally:
+        gc.unfreeze()
