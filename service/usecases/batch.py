@@ -37,9 +37,10 @@ from marshmallow import Schema, ValidationError, missing
 
 from schemas import field_loader
 from schemas.batch import BatchItemSchema
+from schemas.specs import options_from
 from service.fitment import verdict_of
 from service.fitment.catalog import Catalog
-from service.fitment.model import FitResult
+from service.fitment.model import FitResult, Options
 from service.formats.build_list import RawItem, errors_by_column
 from service.formats.result_json import batch_answer_json, batch_item_json, from_json, result_document, to_json
 from service.usecases.fit_check import UnknownReference, run_check
@@ -343,6 +344,9 @@ class Checker:
         # so no other object can take its identity) and the waivers: the verdict and the
         # result as JSON.
         self._done: dict[tuple, tuple[str, bytes] | UnknownReference] = {}
+        # The engine's Options for each distinct loaded options object (by identity, as
+        # above): most lists give every line the same options, made into a record once.
+        self._options: dict[int, Options] = {}
 
     def result(self, item: Item) -> tuple[str, bytes]:
         """The item's verdict and its result in the batch answer, as JSON."""
@@ -365,7 +369,10 @@ class Checker:
         checked = self._done.get(key)
         if checked is None:
             try:
-                result = run_check(request, self._catalog, self._find_plug, self._find_head)
+                options = self._options.get(id(request["options"]))
+                if options is None:
+                    options = self._options[id(request["options"])] = options_from(request["options"])
+                result = run_check(request, self._catalog, self._find_plug, self._find_head, options)
             except UnknownReference as unknown:
                 checked = unknown
             else:

@@ -12,7 +12,7 @@ from collections.abc import Callable
 from schemas.specs import options_from, plug_spec, port_spec
 from service.fitment import check_fit
 from service.fitment.catalog import Catalog
-from service.fitment.model import FitResult
+from service.fitment.model import FitResult, Options
 from service.formats.drawing import render_fit_svg
 
 Lookup = Callable[[str], dict | None]
@@ -51,9 +51,14 @@ def resolve(request: dict, find_plug: Lookup, find_head: Lookup) -> tuple[dict, 
     return plug, head
 
 
-def run_check(request: dict, catalog: Catalog, find_plug: Lookup, find_head: Lookup) -> FitResult:
+def run_check(request: dict, catalog: Catalog, find_plug: Lookup, find_head: Lookup,
+              options: Options | None = None) -> FitResult:
+    """Check a loaded request. `options`, when given, is the request's options already
+    made into the engine's record (a batch makes each distinct one once)."""
     plug, head = resolve(request, find_plug, find_head)
-    return check_fit(plug_spec(plug), port_spec(head), options_from(request.get("options")), catalog)
+    if options is None:
+        options = options_from(request.get("options"))
+    return check_fit(plug_spec(plug), port_spec(head), options, catalog)
 
 
 def draw_check(request: dict, catalog: Catalog, find_plug: Lookup, find_head: Lookup,
