@@ -67,7 +67,6 @@ ANTI_SEIZE_CAUTION = (
     "Many plug makers advise no anti-seize on plated shells: the plating already keeps the "
     "thread from seizing, and anti-seize raises the preload reached at a given torque. If it "
     "is used, tighten to the lowered range given here, never to the dry figure.")
-CAUTIONS_WITH_ANTI_SEIZE = (*CAUTIONS, ANTI_SEIZE_CAUTION)
 # Added whenever a running allowance is estimated from the head's max_rpm (running.py).
 RUNNING_CAUTION = (
     "The running allowance (the piston's extra travel towards the head at speed) is an estimate from a simple "
