@@ -52,6 +52,7 @@ from typing import Any, BinaryIO, TextIO
 import orjson
 from marshmallow import Schema, ValidationError, fields
 
+from schemas import field_loader
 from schemas.fields import Length, Quantity
 from schemas.specs import StoredHeadSchema, StoredPlugSchema
 from service.fitment.model import Dim
@@ -586,7 +587,7 @@ class RowReader:
     # -- shared --
     def _design(self, raw: dict[str, Any]) -> Design | None:
         try:
-            document = self.schema.load({**raw, self.fmt.key: _PLACEHOLDER_KEY})
+            document = field_loader.load(self.schema, {**raw, self.fmt.key: _PLACEHOLDER_KEY})
         except ValidationError:
             return None
         del document[self.fmt.key]
